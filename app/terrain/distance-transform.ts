@@ -1,0 +1,127 @@
+/**
+ * Exact Euclidean distance transform.
+ *
+ * Felzenszwalb, P.F. & Huttenlocher, D.P. (2012) "Distance Transforms of Sampled Functions",
+ * Theory of Computing 8(19), 415–428. doi:10.4086/toc.2012.v008a019
+ *
+ * The squared Euclidean distance is separable: one pass of the 1-D lower-envelope-of-parabolas
+ * transform down every column (sample spacing = cellSizeY), then one along every row (spacing =
+ * cellSizeX). Cells may be non-square; distances come out in metres between cell centres.
+ */
+
+/**
+ * One-dimensional squared distance transform (Felzenszwalb & Huttenlocher 2012, §2, algorithm DT):
+ * d(p) = min_q ( f(q) + (spacing·(p − q))² ).
+ *
+ * Preconditions: `f` holds `n` values read at `f[offset + i·stride]`; +Infinity marks "no feature"
+ * and such samples are left out of the envelope (the paper's intersection formula is undefined for
+ * them). If every sample is +Infinity the output is +Infinity throughout. NaN is not allowed.
+ * `spacing` > 0 in metres. Work buffers `v` (Int32, ≥ n), `z` (Float64, ≥ n + 1) and `fv` (Float64,
+ * ≥ n) are supplied by the caller so the hot loop allocates nothing. The result is written to
+ * `d[dOffset + i·dStride]`; `d` may be the same array as `f` (the input is copied into `fv` first).
+ *
+ * Complexity: O(n) time.
+ */
+export function squaredDistance1D(
+  f: ArrayLike<number>,
+  offset: number,
+  stride: number,
+  n: number,
+  spacing: number,
+  d: { [i: number]: number },
+  dOffset: number,
+  dStride: number,
+  v: Int32Array,
+  z: Float64Array,
+  fv: Float64Array,
+): void {
+  const s2 = spacing * spacing;
+  // copy the input (allows d === f) and find whether any sample is finite
+  let any = false;
+  for (let i = 0; i < n; i++) {
+    const x = f[offset + i * stride];
+    fv[i] = x;
+    if (x !== Infinity) any = true;
+  }
+  if (!any) {
+    for (let i = 0; i < n; i++) d[dOffset + i * dStride] = Infinity;
+    return;
+  }
+  let k = -1; // index of rightmost parabola in the envelope
+  for (let q = 0; q < n; q++) {
+    const fq = fv[q];
+    if (fq === Infinity) continue;
+    if (k < 0) {
+      k = 0;
+      v[0] = q;
+      z[0] = -Infinity;
+      z[1] = Infinity;
+      continue;
+    }
+    // intersection of the parabola from q with the rightmost one, in sample units; z[0] = −∞
+    // stops the loop at k = 0
+    let s = 0;
+    for (;;) {
+      const p = v[k];
+      s = (fq / s2 + q * q - (fv[p] / s2 + p * p)) / (2 * (q - p));
+      if (s <= z[k]) k--;
+      else break;
+    }
+    k++;
+    v[k] = q;
+    z[k] = s;
+    z[k + 1] = Infinity;
+  }
+  let j = 0;
+  for (let q = 0; q < n; q++) {
+    while (z[j + 1] < q) j++;
+    const p = v[j];
+    const dq = (q - p) * spacing;
+    d[dOffset + q * dStride] = dq * dq + fv[p];
+  }
+}
+
+/**
+ * Exact Euclidean distance (metres) from every cell centre to the nearest feature cell centre.
+ * Felzenszwalb & Huttenlocher (2012), Theory of Computing 8(19): separable squared transform.
+ *
+ * Preconditions: `features` has length width·height, row-major with row 0 the northern edge;
+ * a non-zero byte is a feature. cellSizeX, cellSizeY > 0 (metres; may differ). Nodata is the
+ * caller's business: distances cross nodata cells freely (a distance in the plane, not a path
+ * cost); mask the result afterwards. Grid edges are not features. With no feature at all every
+ * output value is +Infinity. `out` may be passed to reuse memory (length width·height).
+ *
+ * Complexity: O(width·height) time; extra memory O(width + height) besides the output
+ * (the column pass stores squared distances in the Float32 output itself — at most 2⁻²⁴ relative
+ * rounding before the square root).
+ */
+export function euclideanDistance(
+  features: Uint8Array,
+  width: number,
+  height: number,
+  cellSizeX: number,
+  cellSizeY: number,
+  out?: Float32Array,
+): Float32Array {
+  const n = width * height;
+  if (features.length !== n) throw new RangeError(`features has ${features.length} cells, expected ${width}×${height}`);
+  if (!(cellSizeX > 0) || !(cellSizeY > 0)) throw new RangeError("cell sizes must be positive");
+  const d = out ?? new Float32Array(n);
+  const m = Math.max(width, height);
+  const v = new Int32Array(m);
+  const z = new Float64Array(m + 1);
+  const fv = new Float64Array(m);
+  const col = new Float64Array(height);
+  // pass 1: columns (north–south, spacing cellSizeY)
+  for (let c = 0; c < width; c++) {
+    for (let r = 0, i = c; r < height; r++, i += width) col[r] = features[i] !== 0 ? 0 : Infinity;
+    squaredDistance1D(col, 0, 1, height, cellSizeY, d, c, width, v, z, fv);
+  }
+  // pass 2: rows (west–east, spacing cellSizeX), in place, then square root
+  for (let r = 0; r < height; r++) {
+    const o = r * width;
+    squaredDistance1D(d, o, 1, width, cellSizeX, d, o, 1, v, z, fv);
+    for (let i = o; i < o + width; i++) d[i] = Math.sqrt(d[i]);
+  }
+  return d;
+}
