@@ -1,0 +1,68 @@
+// Starts the built app (BUILD_DIR, default build-test) on a free port with a database cloned from
+// the migrated template and seeded with the demo; tests read the address from E2E_BASE_URL.
+import { spawn, execFileSync, type ChildProcess } from "node:child_process";
+import net from "node:net";
+import path from "node:path";
+import { createTestDatabase, dropTestDatabase } from "../support/test-db";
+
+const root = path.resolve(import.meta.dirname, "../..");
+
+function freePort(): Promise<number> {
+  return new Promise((resolve, reject) => {
+    const s = net.createServer();
+    s.unref();
+    s.on("error", reject);
+    s.listen(0, "127.0.0.1", () => {
+      const { port } = s.address() as net.AddressInfo;
+      s.close(() => resolve(port));
+    });
+  });
+}
+
+async function waitForHealth(url: string, child: ChildProcess, log: () => string): Promise<void> {
+  const deadline = Date.now() + 60_000;
+  while (Date.now() < deadline) {
+    if (child.exitCode !== null) throw new Error(`the app exited during start-up:\n${log()}`);
+    try {
+      const res = await fetch(`${url}/healthz`);
+      if (res.ok) return;
+    } catch {
+      /* not listening yet */
+    }
+    await new Promise((r) => setTimeout(r, 200));
+  }
+  throw new Error(`the app did not answer /healthz within 60 s:\n${log()}`);
+}
+
+export default async function globalSetup() {
+  const { name, url: databaseUrl } = await createTestDatabase("e2e");
+  const env = { ...process.env, DATABASE_URL: databaseUrl };
+  execFileSync(process.execPath, ["scripts/run-ts.mjs", "scripts/seed.ts"], { cwd: root, env, stdio: "inherit" });
+
+  const port = await freePort();
+  const baseUrl = `http://127.0.0.1:${port}`;
+  let output = "";
+  const child = spawn(process.execPath, ["server.mjs"], {
+    cwd: root,
+    env: {
+      ...env,
+      NODE_ENV: "production",
+      PORT: String(port),
+      HOST: "127.0.0.1",
+      PUBLIC_URL: baseUrl,
+      BUILD_DIR: process.env.BUILD_DIR ?? "build-test",
+      LOG_REQUESTS: "0",
+    },
+    stdio: ["ignore", "pipe", "pipe"],
+  });
+  child.stdout!.on("data", (d) => (output += d));
+  child.stderr!.on("data", (d) => (output += d));
+  await waitForHealth(baseUrl, child, () => output);
+  process.env.E2E_BASE_URL = baseUrl;
+
+  return async () => {
+    child.kill("SIGTERM");
+    await new Promise((r) => child.once("exit", r));
+    await dropTestDatabase(name);
+  };
+}
