@@ -16,7 +16,7 @@ fi
 
 # initdb and pg_ctl refuse to run as root: as root, run them as the postgres user.
 as_owner() {
-  if [ "$(id -u)" -eq 0 ]; then runuser -u postgres -- "$@"; else "$@"; fi
+  if [ "$(id -u)" -eq 0 ]; then (cd / && runuser -u postgres -- "$@"); else "$@"; fi
 }
 
 # The data folder: .data/pg inside the clone when its owner can reach it; otherwise (a clone under
