@@ -44,7 +44,7 @@ import {
 import { heightAboveSea } from "./height-above-sea.ts";
 import { hillshade } from "./hillshade.ts";
 import type { HorizonResult } from "./horizon.ts";
-import { type SeaLevelModel, modelNotes, modelRange, seaLevelLayerAt, validateSeaLevelModel } from "./sea-level.ts";
+import { type SeaLevelModel, modelNotes, modelRange, seaLevelAt, seaLevelLayerAt, validateSeaLevelModel } from "./sea-level.ts";
 import { lakeMargins, riverMouths, seaAtTidalLevel, shorelineMask, waterMask } from "./shoreline.ts";
 import { slopeAspect } from "./slope-aspect.ts";
 import { confluences, strahlerOrder, streamMask } from "./streams.ts";
@@ -366,7 +366,7 @@ export async function reconstructAge(ctx: AgeContext, ageKa: number, emit: Layer
   step("streams and features", 0.6);
   const summary: AgeSummary = {
     ageKa,
-    seaLevelM: ctx.seaLevel.kind === "curve" ? seaLevel[0] : null,
+    seaLevelM: ctx.seaLevel.kind === "curve" ? seaLevelAt(ctx.seaLevel.curve, ageKa) : null,
     counts: cls.counts,
     features: {
       streamCells: countOnes(streams),

@@ -6,6 +6,8 @@
  * Invented terrain: it imitates no real place.
  */
 import { mulberry32 } from "../../fixtures/terrain2/seeded-random.ts";
+import { resolveCrs } from "../../app/terrain/crs.ts";
+import type { Grid, GridSpec } from "../../app/terrain/grid.ts";
 
 export interface SyntheticShelf {
   width: number;
@@ -113,3 +115,19 @@ export function syntheticShelf(size: number, seed = 20260, cellSizeM = 25): Synt
   }
   return { width: w, height: h, cellSizeM, elevation: z };
 }
+
+/** WGS 84 / UTM zone 25S: the grid is placed over the open South Atlantic, far from any coast. */
+export const SYNTHETIC_EPSG = 32725;
+export const SYNTHETIC_ORIGIN: [number, number] = [420000, 6100000];
+
+/** The synthetic shelf as a georeferenced grid (EPSG:32725, no nodata). */
+export function syntheticGrid(size: number, seed = 20260, cell = 25): Grid<Float32Array> {
+  const s = syntheticShelf(size, seed, cell);
+  const crs = resolveCrs(SYNTHETIC_EPSG);
+  const spec: GridSpec = {
+    width: size, height: size, originX: SYNTHETIC_ORIGIN[0], originY: SYNTHETIC_ORIGIN[1],
+    cellSizeX: cell, cellSizeY: cell, crs: { epsg: crs.epsg, proj4: crs.proj4 },
+  };
+  return { spec, data: s.elevation, nodata: new Uint8Array(size * size) };
+}
+
