@@ -22,9 +22,19 @@ cat <<MSG
 
   Lowstand is starting at $PUBLIC_URL
   Health: $PUBLIC_URL/healthz
-  Demo project: Corrastan Shelf (invented)
+  Demo project: Corrastan Shelf (invented). Sign in as (e-mail / password):
+    owner@corrastan.example     lowstand-owner
+    lead@corrastan.example      lowstand-lead
+    analyst@corrastan.example   lowstand-analyst
+    reviewer@corrastan.example  lowstand-reviewer
+    viewer@corrastan.example    lowstand-viewer
+  Mail goes to the local catcher unless SMTP_URL is set: read it at $PUBLIC_URL/dev/outbox
   Stop with Ctrl-C; the database keeps running until \`npm run db:down\`.
 
 MSG
 export NODE_ENV=production
+# Without a real relay (SMTP_URL), mail goes to the local catcher in this process, readable at /dev/outbox.
+if [ -z "${SMTP_URL:-}" ]; then
+  export SMTP_PORT="${SMTP_PORT:-2525}" LOWSTAND_MAIL_CATCHER_PORT="${SMTP_PORT:-2525}" LOWSTAND_DEV_OUTBOX=1
+fi
 exec node server.mjs

@@ -14,3 +14,6 @@ afterAll(async () => {
   }
   await dropTestDatabase(name);
 });
+
+// Links in e-mails are built from PUBLIC_URL; tests use a fixed, unroutable origin.
+process.env.PUBLIC_URL = "http://lowstand.test";
