@@ -91,9 +91,9 @@ export function squaredDistance1D(
  * cost); mask the result afterwards. Grid edges are not features. With no feature at all every
  * output value is +Infinity. `out` may be passed to reuse memory (length width·height).
  *
- * Complexity: O(width·height) time; extra memory O(width + height) besides the output
- * (the column pass stores squared distances in the Float32 output itself — at most 2⁻²⁴ relative
- * rounding before the square root).
+ * Complexity: O(width·height) time; extra memory O(width) besides the output (the column pass
+ * keeps whole-cell counts in the Float32 output, exact up to 2²⁴ rows; squared distances are formed in
+ * double precision, rounded to Float32 once before the square root).
  */
 export function euclideanDistance(
   features: Uint8Array,
@@ -107,20 +107,35 @@ export function euclideanDistance(
   if (features.length !== n) throw new RangeError(`features has ${features.length} cells, expected ${width}×${height}`);
   if (!(cellSizeX > 0) || !(cellSizeY > 0)) throw new RangeError("cell sizes must be positive");
   const d = out ?? new Float32Array(n);
-  const m = Math.max(width, height);
+  // pass 1 (columns, spacing cellSizeY): for a binary f, F&H's 1-D transform is the squared distance
+  // to the nearest feature in the column, found here by two sweeps that walk the grid row by row
+  // (cache-friendly) and keep the count of cells to the nearest feature above, then below
+  for (let c = 0; c < width; c++) d[c] = features[c] !== 0 ? 0 : Infinity;
+  for (let r = 1; r < height; r++) {
+    const o = r * width;
+    for (let i = o; i < o + width; i++) d[i] = features[i] !== 0 ? 0 : d[i - width] + 1;
+  }
+  for (let r = height - 2; r >= 0; r--) {
+    const o = r * width;
+    for (let i = o; i < o + width; i++) {
+      const below = d[i + width] + 1;
+      if (below < d[i]) d[i] = below;
+    }
+  }
+  // pass 2 (rows, spacing cellSizeX): counts → squared metres, the lower envelope of parabolas, then
+  // the square root
+  const m = width;
   const v = new Int32Array(m);
   const z = new Float64Array(m + 1);
   const fv = new Float64Array(m);
-  const col = new Float64Array(height);
-  // pass 1: columns (north–south, spacing cellSizeY)
-  for (let c = 0; c < width; c++) {
-    for (let r = 0, i = c; r < height; r++, i += width) col[r] = features[i] !== 0 ? 0 : Infinity;
-    squaredDistance1D(col, 0, 1, height, cellSizeY, d, c, width, v, z, fv);
-  }
-  // pass 2: rows (west–east, spacing cellSizeX), in place, then square root
+  const row = new Float64Array(m);
   for (let r = 0; r < height; r++) {
     const o = r * width;
-    squaredDistance1D(d, o, 1, width, cellSizeX, d, o, 1, v, z, fv);
+    for (let c = 0; c < width; c++) {
+      const k = d[o + c] * cellSizeY;
+      row[c] = k * k; // Infinity stays Infinity
+    }
+    squaredDistance1D(row, 0, 1, width, cellSizeX, d, o, 1, v, z, fv);
     for (let i = o; i < o + width; i++) d[i] = Math.sqrt(d[i]);
   }
   return d;

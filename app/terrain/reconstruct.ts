@@ -34,6 +34,7 @@ import { flowDirectionD8 } from "./flow-direction.ts";
 import {
   type Grid,
   type GridSpec,
+  D8_OUTLET,
   type Layer,
   type RunControl,
   TerrainCancelled,
@@ -98,6 +99,8 @@ export interface AgeContext {
   burnDepthM: number;
   tpiRadiusM: number;
   flooding: { windowKa: [number, number]; coastBandM: number };
+  /** route water through interior sea and lake cells too (slower, same result; for checking) */
+  routeInteriorWater?: boolean;
 }
 
 export interface AgeSummary {
@@ -343,15 +346,33 @@ export async function reconstructAge(ctx: AgeContext, ageKa: number, emit: Layer
   const classes = cls.classes;
   step("classes", 0.05);
   const outlets = outletMask(classes, ctx.boundaryMask);
-  const toFill = ctx.palaeochannels && ctx.burnDepthM > 0 ? burnChannels(elev, ctx.palaeochannels, ctx.burnDepthM) : elev;
+  // Outlet cells with no land neighbour (the open sea, lake interiors) take no part in routing: they
+  // are left out of the fill, D8 and accumulation as if nodata, which gives the same result (water
+  // leaves at the first outlet it reaches, and no land cell borders them) at a fraction of the cost
+  // when much of the shelf is drowned. Afterwards they are outlets with nothing upstream.
+  const routeNodata = ctx.routeInteriorWater ? nodata : interiorOutletsAsNodata(spec, outlets, nodata);
+  const baseGrid = ctx.palaeochannels && ctx.burnDepthM > 0 ? burnChannels(elev, ctx.palaeochannels, ctx.burnDepthM) : elev;
+  const toFill: Grid<Float32Array> = { spec, data: baseGrid.data, nodata: routeNodata };
   const filled = fillDepressions(toFill, outlets, { epsilon: false });
   step("fill", 0.3);
-  const filledGrid: Grid<Float32Array> = { spec, data: filled.filledM, nodata };
+  const filledGrid: Grid<Float32Array> = { spec, data: filled.filledM, nodata: routeNodata };
   const d8 = flowDirectionD8(filledGrid, filled.outlets);
   const flats = resolveFlats(filledGrid, d8);
   const directions = flats.directions;
   step("flow direction", 0.4);
-  const acc = flowAccumulation(spec, directions, nodata);
+  const acc = flowAccumulation(spec, directions, routeNodata);
+  if (routeNodata !== nodata) {
+    const z = baseGrid.data;
+    const fz = filled.filledM;
+    const up = acc.upstreamCells;
+    for (let i = 0; i < routeNodata.length; i++) {
+      if (routeNodata[i] !== 0 && nodata[i] === 0) {
+        fz[i] = z[i];
+        directions[i] = D8_OUTLET;
+        up[i] = 0;
+      }
+    }
+  }
   step("accumulation", 0.5);
   const water = waterMask(classes);
   const streams = streamMask(spec, acc.upstreamCells, ctx.streamThresholdKm2, water);
@@ -408,6 +429,39 @@ export async function reconstructAge(ctx: AgeContext, ageKa: number, emit: Layer
   await emit(out("height_above_sea", ageKa, "float32", "m", "NaN", has));
   step("emit", 1);
   return summary;
+}
+
+/**
+ * nodata plus every outlet cell whose 8 neighbours (inside the grid) are all outlets or nodata; just
+ * `nodata` when no outlet borders a routable cell (nothing to route). O(n).
+ */
+function interiorOutletsAsNodata(spec: GridSpec, outlets: Uint8Array, nodata: Uint8Array): Uint8Array {
+  const { width: w, height: h } = spec;
+  const out = nodata.slice();
+  let kept = 0;
+  for (let r = 0; r < h; r++) {
+    const r0 = r > 0 ? r - 1 : r;
+    const r1 = r < h - 1 ? r + 1 : r;
+    for (let c = 0; c < w; c++) {
+      const i = r * w + c;
+      if (outlets[i] === 0 || nodata[i] !== 0) continue;
+      const c0 = c > 0 ? c - 1 : c;
+      const c1 = c < w - 1 ? c + 1 : c;
+      let interior = 1;
+      for (let rr = r0; rr <= r1 && interior; rr++) {
+        for (let cc = c0; cc <= c1; cc++) {
+          const m = rr * w + cc;
+          if (outlets[m] === 0 && nodata[m] === 0) {
+            interior = 0;
+            break;
+          }
+        }
+      }
+      out[i] = interior;
+      if (!interior) kept++;
+    }
+  }
+  return kept > 0 ? out : nodata;
 }
 
 function markNodata(mask: Uint8Array, nodata: Uint8Array): Uint8Array {
