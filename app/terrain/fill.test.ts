@@ -1,6 +1,6 @@
 import { describe, expect, it } from "vitest";
 import { fillDepressions, nextUpF32 } from "./fill";
-import { D8_DCOL, D8_DROW, type Grid, TerrainInputError } from "./grid";
+import { D8_DCOL, D8_DROW, type Grid, TerrainCancelled, TerrainInputError } from "./grid";
 import { gridFromRows, randomTerrain } from "./test-utils";
 
 function borderMask(w: number, h: number, nodata?: Uint8Array): Uint8Array {
@@ -139,6 +139,18 @@ describe("fillDepressions — Barnes, Lehman & Mulla (2014) Priority-Flood", () 
     expect(res.addedOutletCount).toBe(8); // the ring of 3s, all on the edge or next to nodata
     expect(res.outlets[1 * 6 + 1]).toBe(0); // the pit is neither
     expect(res.filledM[1 * 6 + 1]).toBe(3);
+  });
+
+  it("reports progress and stops with TerrainCancelled when asked", () => {
+    const g = randomTerrain(4, 300, 300);
+    const steps: number[] = [];
+    fillDepressions(g, borderMask(300, 300), { onProgress: (f) => steps.push(f) });
+    expect(steps[0]).toBe(0);
+    expect(steps.at(-1)).toBe(1);
+    expect(steps.length).toBeGreaterThan(2); // 90 000 cells: ticks every 65 536 cells processed
+    for (let k = 1; k < steps.length; k++) expect(steps[k]).toBeGreaterThanOrEqual(steps[k - 1]);
+    let calls = 0;
+    expect(() => fillDepressions(g, borderMask(300, 300), { shouldCancel: () => ++calls > 1 })).toThrow(TerrainCancelled);
   });
 
   it("refuses a grid with no outlet", () => {

@@ -147,10 +147,7 @@ export async function readGeoTiff(bytes: ArrayBuffer | Uint8Array, options: GeoT
       "the GeoTIFF names no CRS (no GeoKeys): declare the EPSG code of its projected CRS in metres when uploading",
     );
   }
-  const units = geoKeys?.ProjLinearUnitsGeoKey as number | undefined;
-  if (units !== undefined && units !== 9001 && crsSource === "geokeys" && fileCode === undefined) {
-    throw new TerrainInputError(`the GeoTIFF's linear unit (code ${units}) is not the metre: reproject it to metres first`);
-  }
+  // Units need no separate check: resolveCrs accepts only projected CRSs in metres.
 
   const spec: GridSpec = { width, height, originX, originY, cellSizeX: sx, cellSizeY: sy, crs };
   if (width < 3 || height < 3) {
@@ -162,7 +159,10 @@ export async function readGeoTiff(bytes: ArrayBuffer | Uint8Array, options: GeoT
   const nodataValue = image.getGDALNoData();
   const n = width * height;
   const mask = new Uint8Array(n);
-  if (nodataValue !== null && !Number.isNaN(nodataValue)) {
+  if (nodataValue !== null && Number.isNaN(nodataValue)) {
+    // GDAL_NODATA = nan: NaN cells are declared nodata, not surprises to report
+    for (let i = 0; i < n; i++) if (Number.isNaN(raster[i])) mask[i] = 1;
+  } else if (nodataValue !== null) {
     // Compare in the file's own type: float32 files store the nodata rounded to float32.
     const format = image.getSampleFormat() as number;
     const bits = image.getBitsPerSample() as number;

@@ -91,6 +91,7 @@ describe("writeGeoTiff — our small writer, checked with GDAL (reference librar
       const back = await readGeoTiff(bytes);
       expect(back.grid.spec).toEqual(grid.spec);
       expect(back.nodataCount).toBe(Array.from(nodata).filter((v) => v).length);
+      expect(back.nonFiniteCount).toBe(0); // declared nodata (even NaN) is not reported as stray NaN
       for (let i = 0; i < n; i++) {
         if (nodata[i]) expect(back.grid.nodata[i]).toBe(1);
         else expect(back.grid.data[i]).toBe(isFloat ? data[i] : Number(data[i]));

@@ -75,6 +75,20 @@ describe("default sea-level curve — Lambeck, Rouby, Purcell, Sun & Sambridge (
     expect(Math.abs(rate - 12)).toBeLessThan(1.5);
   });
 
+  it("has its fastest rise of the deglaciation at Meltwater Pulse 1A", () => {
+    // (paper) Deschamps et al. (2012) Nature 483: MWP-1A between 14.65 and 14.31 ka. Our check (tolerance
+    // ours): the steepest 0.34 ka window of the curve between 8 and 20 ka starts within 0.4 ka of 14.65 ka
+    // and rises at more than twice the deglacial average of about 12 m/ka.
+    let best = 0;
+    let start = 0;
+    for (let t = 8; t <= 19.66; t += 0.01) {
+      const rate = (seaLevelAt(curve, t) - seaLevelAt(curve, t + 0.34)) / 0.34;
+      if (rate > best) (best = rate), (start = t + 0.34);
+    }
+    expect(Math.abs(start - 14.65)).toBeLessThan(0.4);
+    expect(best).toBeGreaterThan(24);
+  });
+
   it("puts the glacial maximum 120–135 m below present around 20 ka", () => {
     // (practice) check-values.md: about 20 000 years ago, 120–135 m below present depending on the reconstruction
     const l = seaLevelAt(curve, 20);
