@@ -48,14 +48,13 @@ export function resolveFlats(surface: Grid<Float32Array>, directions: Uint8Array
   const dirs = directions.slice();
   const ticker = new Ticker(control, 4 * n, "flat resolution");
   ticker.start();
-  const isFlat = (i: number) => dirs[i] === D8_PIT;
 
   // 1. Label flats (8-connected equal-elevation D8_PIT cells).
   const label = new Int32Array(n);
   const q = new CellQueue(1024);
   let flatCount = 0;
   for (let i = 0; i < n; i++) {
-    if (!isFlat(i) || label[i]) continue;
+    if (dirs[i] !== D8_PIT || label[i]) continue;
     flatCount++;
     label[i] = flatCount;
     q.push(i);
@@ -69,7 +68,7 @@ export function resolveFlats(surface: Grid<Float32Array>, directions: Uint8Array
         const cc = col + D8_DCOL[k];
         if (rr < 0 || rr >= h || cc < 0 || cc >= w) continue;
         const m = rr * w + cc;
-        if (label[m] || !isFlat(m) || z[m] !== zi) continue;
+        if (label[m] || dirs[m] !== D8_PIT || z[m] !== zi) continue;
         label[m] = flatCount;
         q.push(m);
       }
@@ -92,7 +91,7 @@ export function resolveFlats(surface: Grid<Float32Array>, directions: Uint8Array
     if (nodata[i]) continue;
     const r = (i / w) | 0;
     const col = i - r * w;
-    const flat = isFlat(i);
+    const flat = dirs[i] === D8_PIT;
     let low = false;
     let high = false;
     for (let k = 0; k < 8; k++) {
@@ -101,7 +100,7 @@ export function resolveFlats(surface: Grid<Float32Array>, directions: Uint8Array
       if (rr < 0 || rr >= h || cc < 0 || cc >= w) continue;
       const m = rr * w + cc;
       if (nodata[m]) continue;
-      if (!flat && isFlat(m) && z[m] === z[i]) low = true;
+      if (!flat && dirs[m] === D8_PIT && z[m] === z[i]) low = true;
       if (flat && z[m] > z[i]) high = true;
     }
     if (low) {
@@ -126,7 +125,7 @@ export function resolveFlats(surface: Grid<Float32Array>, directions: Uint8Array
       const cc = col + D8_DCOL[k];
       if (rr < 0 || rr >= h || cc < 0 || cc >= w) continue;
       const m = rr * w + cc;
-      if (!isFlat(m) || towards[m] || z[m] !== z[c]) continue;
+      if (dirs[m] !== D8_PIT || towards[m] || z[m] !== z[c]) continue;
       towards[m] = d + 1;
       lowQ.push(m);
     }
