@@ -3,7 +3,10 @@
 import { spawn, execFileSync, type ChildProcess } from "node:child_process";
 import net from "node:net";
 import path from "node:path";
+import fs from "node:fs";
 import { createTestDatabase, dropTestDatabase } from "../support/test-db";
+import { demoUsers } from "../../scripts/demo/demo-data";
+import { AUTH_DIR } from "./fixtures";
 
 const root = path.resolve(import.meta.dirname, "../..");
 
@@ -34,12 +37,33 @@ async function waitForHealth(url: string, child: ChildProcess, log: () => string
   throw new Error(`the app did not answer /healthz within 60 s:\n${log()}`);
 }
 
+/** Signs each demo role in once through POST /login and keeps the cookie for the tests (tests/.auth/). */
+async function signInDemoRoles(baseUrl: string) {
+  fs.mkdirSync(AUTH_DIR, { recursive: true });
+  for (const u of demoUsers) {
+    const res = await fetch(`${baseUrl}/login`, {
+      method: "POST",
+      redirect: "manual",
+      headers: { "Content-Type": "application/x-www-form-urlencoded", Origin: baseUrl },
+      body: new URLSearchParams({ email: u.email, password: u.password }),
+    });
+    const m = /lowstand_session=([^;]+)/.exec(res.headers.get("set-cookie") ?? "");
+    if (res.status !== 302 || !m) throw new Error(`demo sign-in as ${u.role} failed: ${res.status}`);
+    const state = {
+      cookies: [{ name: "lowstand_session", value: m[1], domain: "127.0.0.1", path: "/", expires: -1, httpOnly: true, secure: false, sameSite: "Lax" }],
+      origins: [],
+    };
+    fs.writeFileSync(path.join(AUTH_DIR, `${u.role}.json`), JSON.stringify(state));
+  }
+}
+
 export default async function globalSetup() {
   const { name, url: databaseUrl } = await createTestDatabase("e2e");
   const env = { ...process.env, DATABASE_URL: databaseUrl };
   execFileSync(process.execPath, ["scripts/run-ts.mjs", "scripts/seed.ts"], { cwd: root, env, stdio: "inherit" });
 
   const port = await freePort();
+  const smtpPort = await freePort();
   const baseUrl = `http://127.0.0.1:${port}`;
   let output = "";
   const child = spawn(process.execPath, ["server.mjs"], {
@@ -52,6 +76,10 @@ export default async function globalSetup() {
       PUBLIC_URL: baseUrl,
       BUILD_DIR: process.env.BUILD_DIR ?? "build-test",
       LOG_REQUESTS: "0",
+      // Mail goes over SMTP to a catcher inside the app process, readable at /dev/outbox.
+      LOWSTAND_MAIL_CATCHER_PORT: String(smtpPort),
+      SMTP_URL: `smtp://127.0.0.1:${smtpPort}`,
+      LOWSTAND_DEV_OUTBOX: "1",
     },
     stdio: ["ignore", "pipe", "pipe"],
   });
@@ -59,6 +87,7 @@ export default async function globalSetup() {
   child.stderr!.on("data", (d) => (output += d));
   await waitForHealth(baseUrl, child, () => output);
   process.env.E2E_BASE_URL = baseUrl;
+  await signInDemoRoles(baseUrl);
 
   return async () => {
     child.kill("SIGTERM");

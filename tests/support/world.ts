@@ -89,13 +89,16 @@ export function makeRequest(path: string, o: CallOptions = {}): Request {
   return new Request(new URL(path, ORIGIN), { method, headers, body });
 }
 
-type RouteFn = (args: { request: Request; params: Record<string, string>; context: LowstandLoadContext }) => unknown;
+// Loaders and actions take more (url, pattern, typed params); we pass what React Router passes.
+// eslint-disable-next-line @typescript-eslint/no-explicit-any
+type RouteFn = (args: any) => unknown;
 
 /** Calls a loader or action as React Router would, returning a Response for thrown or returned results. */
 export async function call(fn: RouteFn, path: string, o: CallOptions = {}): Promise<Response> {
   const request = makeRequest(path, o);
   try {
-    const out = await fn({ request, params: o.params ?? {}, context: { clientAddress: o.clientAddress ?? "127.0.0.1", requestId: "test" } });
+    const context: LowstandLoadContext = { clientAddress: o.clientAddress ?? "127.0.0.1", requestId: "test" };
+    const out = await fn({ request, url: new URL(request.url), pattern: new URL(request.url).pathname, params: o.params ?? {}, context });
     return toResponse(out);
   } catch (e) {
     if (e instanceof Response) return e;
@@ -111,11 +114,11 @@ function toResponse(out: unknown): Response {
   return Response.json(out ?? null);
 }
 
-/** Refused: a 401/403/404 marked as an access refusal, or a redirect to sign-in. */
+/** Refused: a 401/403/404 marked as an access refusal, or the redirect to sign-in that requireIdentity sends. */
 export function isRefusal(res: Response): boolean {
   if (res.headers.has(REFUSAL_HEADER)) return true;
   const loc = res.headers.get("Location");
-  return res.status >= 300 && res.status < 400 && !!loc && loc.startsWith("/login");
+  return res.status >= 300 && res.status < 400 && !!loc && loc.startsWith("/login?next=");
 }
 
 export async function userIdByEmail(email: string): Promise<number | undefined> {

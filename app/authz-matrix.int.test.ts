@@ -1,0 +1,149 @@
+// The authorization matrix: every route in app/routes.ts × every kind of caller → allowed or
+// refused. Data-driven from the route list: a route without a row here fails the test.
+// "Refused" means an access refusal (401/403/404 marked X-Lowstand-Refusal) or a redirect to
+// sign-in; anything else (200, 302 elsewhere, 400/405/409/410/422 about the input) is "allowed".
+// Probes that change state send bodies that are refused for their content after authorization,
+// so one world serves the whole matrix.
+import { beforeAll, describe, expect, it } from "vitest";
+import routes from "./routes";
+import { buildWorld, call, cookieFor, EVERYONE, headersFor, isRefusal, type CallOptions, type Who, type World } from "../tests/support/world";
+
+type Verdict = "allow" | "refuse";
+type Expect = Partial<Record<Who, Verdict>> & { default: Verdict };
+interface Probe {
+  method: "GET" | "POST" | "PATCH" | "DELETE";
+  path: (w: World) => string;
+  params?: (w: World) => Record<string, string>;
+  options?: Omit<CallOptions, "method" | "headers" | "params">;
+  /** Use a new session per caller (for probes that end the session they are sent with). */
+  freshSessions?: boolean;
+  expect: Expect;
+}
+
+const allowAll: Expect = { default: "allow" };
+const signedInPages: Expect = { default: "allow", signedOut: "refuse", viewerToken: "refuse" };
+const signedInApi: Expect = { default: "allow", signedOut: "refuse" };
+const projectPage = (allowed: Who[]): Expect => ({ default: "refuse", ...Object.fromEntries(allowed.map((w) => [w, "allow"])) });
+const MEMBERS: Who[] = ["owner", "lead", "analyst", "reviewer", "viewer"];
+const pid = (w: World) => ({ projectId: String(w.projectId) });
+
+const MATRIX: Record<string, Probe[]> = {
+  "routes/home.tsx": [{ method: "GET", path: () => "/", expect: { default: "allow", viewerToken: "refuse" } }],
+  "routes/healthz.ts": [{ method: "GET", path: () => "/healthz", expect: allowAll }],
+  "routes/login.tsx": [
+    { method: "GET", path: () => "/login", expect: { default: "allow", viewerToken: "allow" } },
+    { method: "POST", path: () => "/login", options: { form: { email: "", password: "" } }, expect: allowAll },
+  ],
+  "routes/logout.ts": [
+    { method: "GET", path: () => "/logout", expect: allowAll },
+    { method: "POST", path: () => "/logout", freshSessions: true, expect: { default: "allow", viewerToken: "refuse" } },
+  ],
+  "routes/forgot-password.tsx": [{ method: "POST", path: () => "/forgot-password", options: { form: { email: "not-an-address" } }, expect: allowAll }],
+  "routes/reset-password.tsx": [
+    { method: "GET", path: () => "/reset-password/no-such-token", params: () => ({ token: "no-such-token" }), expect: allowAll },
+    { method: "POST", path: () => "/reset-password/no-such-token", params: () => ({ token: "no-such-token" }), options: { form: { password: "x" } }, expect: allowAll },
+  ],
+  "routes/invitation.tsx": [
+    { method: "GET", path: () => "/invitations/no-such-token", params: () => ({ token: "no-such-token" }), expect: { default: "allow", viewerToken: "allow" } },
+    { method: "POST", path: () => "/invitations/no-such-token", params: () => ({ token: "no-such-token" }), options: { form: { name: "", password: "" } }, expect: { default: "allow", viewerToken: "refuse" } },
+  ],
+  "routes/account.tsx": [
+    { method: "GET", path: () => "/account", expect: signedInPages },
+    { method: "POST", path: () => "/account", options: { form: { intent: "nothing" } }, expect: signedInPages },
+  ],
+  "routes/project-new.tsx": [
+    { method: "GET", path: () => "/projects/new", expect: projectPage(["owner", "lead"]) },
+    { method: "POST", path: () => "/projects/new", options: { form: { name: "" } }, expect: projectPage(["owner", "lead"]) },
+  ],
+  "routes/project-layout.tsx": [{ method: "GET", path: (w) => `/projects/${w.projectId}`, params: pid, expect: projectPage(MEMBERS) }],
+  "routes/project-overview.tsx": [{ method: "GET", path: (w) => `/projects/${w.projectId}`, params: pid, expect: projectPage(MEMBERS) }],
+  "routes/project-members.tsx": [
+    { method: "GET", path: (w) => `/projects/${w.projectId}/members`, params: pid, expect: projectPage(MEMBERS) },
+    { method: "POST", path: (w) => `/projects/${w.projectId}/members`, params: pid, options: { form: { intent: "nothing" } }, expect: projectPage(["owner", "lead"]) },
+  ],
+  "routes/project-audit.tsx": [{ method: "GET", path: (w) => `/projects/${w.projectId}/audit`, params: pid, expect: projectPage(["owner", "lead", "reviewer"]) }],
+  // Development only, and only to a browser on this machine (where a signed-out person must be
+  // able to read their own reset link); checked below from another address and in production.
+  "routes/dev-outbox.tsx": [{ method: "GET", path: () => "/dev/outbox", expect: allowAll }],
+  "routes/api.me.ts": [
+    { method: "GET", path: () => "/api/me", expect: signedInApi },
+    { method: "POST", path: () => "/api/me", expect: signedInApi },
+  ],
+  "routes/api.projects.ts": [
+    { method: "GET", path: () => "/api/projects", expect: signedInApi },
+    { method: "POST", path: () => "/api/projects", options: { json: {} }, expect: projectPage(["owner", "lead"]) },
+  ],
+  "routes/api.project.ts": [
+    { method: "GET", path: (w) => `/api/projects/${w.projectId}`, params: pid, expect: projectPage([...MEMBERS, "viewerToken"]) },
+    { method: "POST", path: (w) => `/api/projects/${w.projectId}`, params: pid, options: { json: {} }, expect: projectPage([...MEMBERS, "viewerToken"]) },
+  ],
+  "routes/api.project-members.ts": [
+    { method: "GET", path: (w) => `/api/projects/${w.projectId}/members`, params: pid, expect: projectPage([...MEMBERS, "viewerToken"]) },
+    { method: "POST", path: (w) => `/api/projects/${w.projectId}/members`, params: pid, options: { json: { email: "bad" } }, expect: projectPage(["owner", "lead"]) },
+  ],
+  "routes/api.project-member.ts": [
+    { method: "GET", path: (w) => `/api/projects/${w.projectId}/members/1`, params: (w) => ({ ...pid(w), userId: "1" }), expect: projectPage([...MEMBERS, "viewerToken"]) },
+    { method: "PATCH", path: (w) => `/api/projects/${w.projectId}/members/999999`, params: (w) => ({ ...pid(w), userId: "999999" }), options: { json: { role: "viewer" } }, expect: projectPage(["owner", "lead"]) },
+    { method: "DELETE", path: (w) => `/api/projects/${w.projectId}/members/999999`, params: (w) => ({ ...pid(w), userId: "999999" }), expect: projectPage(["owner", "lead"]) },
+  ],
+};
+
+interface RouteEntry {
+  file: string;
+  children?: RouteEntry[];
+}
+function routeFiles(list: RouteEntry[]): string[] {
+  return list.flatMap((r) => [r.file, ...(r.children ? routeFiles(r.children) : [])]);
+}
+
+const FILES = routeFiles(routes as RouteEntry[]);
+
+let world: World;
+beforeAll(async () => {
+  world = await buildWorld("mx");
+});
+
+describe("the development outbox", () => {
+  it("is not found from another machine, nor in production", async () => {
+    const mod = await import("./routes/dev-outbox");
+    expect((await call(mod.loader, "/dev/outbox", { clientAddress: "192.0.2.7" })).status).toBe(404);
+    const env = process.env.NODE_ENV;
+    process.env.NODE_ENV = "production";
+    try {
+      expect((await call(mod.loader, "/dev/outbox")).status).toBe(404);
+    } finally {
+      process.env.NODE_ENV = env;
+    }
+  });
+});
+
+describe("authorization matrix", () => {
+  it("has a row for every route in app/routes.ts, and no row for a route that does not exist", () => {
+    expect(FILES.filter((f) => !MATRIX[f]), "routes without a row in the matrix").toEqual([]);
+    expect(Object.keys(MATRIX).filter((f) => !FILES.includes(f)), "rows for routes that do not exist").toEqual([]);
+  });
+
+  for (const file of FILES) {
+    for (const probe of MATRIX[file] ?? []) {
+      it(`${probe.method} ${file}`, async () => {
+        const mod = await import(/* @vite-ignore */ `./${file}`);
+        const fn = probe.method === "GET" ? mod.loader : mod.action;
+        expect(fn, `${file} has no ${probe.method === "GET" ? "loader" : "action"}`).toBeTypeOf("function");
+        const got: Record<string, Verdict> = {};
+        const want: Record<string, Verdict> = {};
+        for (const who of EVERYONE) {
+          const res = await call(fn, probe.path(world), {
+            method: probe.method,
+            params: probe.params?.(world) ?? {},
+            headers: probe.freshSessions && who !== "signedOut" && who !== "viewerToken" ? { Cookie: await cookieFor(world.userIds[who]) } : headersFor(world, who),
+            ...probe.options,
+          });
+          got[who] = isRefusal(res) ? "refuse" : "allow";
+          want[who] = probe.expect[who] ?? probe.expect.default;
+          expect(res.status, `${who}: unexpected server error`).toBeLessThan(500);
+        }
+        expect(got).toEqual(want);
+      });
+    }
+  }
+});
