@@ -157,7 +157,10 @@ describe("reconstruct (inline)", () => {
     expect(src[east]).toBe(0);
     expect(surf[east]).toBe(input.seabed.data[east]);
     expect(hz.unassessed[east]).toBe(1);
-    expect(l2.has("unassessed@-")).toBe(true);
+    const un = l2.get("unassessed@-")!.data as Uint8Array;
+    expect(un[0]).toBe(255); // nodata corner of the seabed
+    expect(un[east]).toBe(1);
+    expect(un[cell]).toBe(0);
     expect(l2.has("dist_survey_line@-")).toBe(true);
     const direct = analysisSurface(input.seabed, hz.elevationM);
     expect(direct.horizonCells + direct.seabedCells).toBe(W * H - 9);

@@ -435,7 +435,7 @@ export async function reconstructAge(ctx: AgeContext, ageKa: number, emit: Layer
  * nodata plus every outlet cell whose 8 neighbours (inside the grid) are all outlets or nodata; just
  * `nodata` when no outlet borders a routable cell (nothing to route). O(n).
  */
-function interiorOutletsAsNodata(spec: GridSpec, outlets: Uint8Array, nodata: Uint8Array): Uint8Array {
+export function interiorOutletsAsNodata(spec: GridSpec, outlets: Uint8Array, nodata: Uint8Array): Uint8Array {
   const { width: w, height: h } = spec;
   const out = nodata.slice();
   let kept = 0;
@@ -547,9 +547,11 @@ export async function reconstruct(input: ReconstructInput, options: ReconstructO
     const hz = input.horizon.result;
     await sink(out("horizon_elevation", null, "float32", "m", "NaN", hz.elevationM.slice()));
     await sink(out("cover_thickness", null, "float32", "m", "NaN", hz.thicknessM.slice()));
-    await sink(out("unassessed", null, "uint8", "mask", 255, hz.unassessed.slice()));
-    await sink(out("thin_cover", null, "uint8", "mask", 255, hz.belowResolution.slice()));
-    await sink(out("dist_survey_line", null, "float32", "m", "NaN", finiteOrNaN(hz.distanceToLineM.slice())));
+    await sink(out("unassessed", null, "uint8", "mask", 255, markNodata(hz.unassessed.slice(), seabed.nodata)));
+    await sink(out("thin_cover", null, "uint8", "mask", 255, markNodata(hz.belowResolution.slice(), seabed.nodata)));
+    const dl = finiteOrNaN(hz.distanceToLineM.slice(), seabed.nodata);
+    const dlStats = layerStats(dl, "NaN");
+    if (dlStats.validCount > 0) await sink({ name: "dist_survey_line", ageKa: null, type: "float32", units: "m", nodata: "NaN", data: dl, stats: dlStats });
   }
   staticT["analysis surface"] = performance.now() - t0;
   t0 = performance.now();
@@ -634,7 +636,7 @@ export async function reconstruct(input: ReconstructInput, options: ReconstructO
   };
 }
 
-function finiteOrNaN(a: Float32Array): Float32Array {
-  for (let i = 0; i < a.length; i++) if (a[i] === Infinity) a[i] = NaN;
+function finiteOrNaN(a: Float32Array, nodata: Uint8Array): Float32Array {
+  for (let i = 0; i < a.length; i++) if (a[i] === Infinity || nodata[i] !== 0) a[i] = NaN;
   return a;
 }

@@ -30,7 +30,7 @@ import { slopeAspect } from "../../app/terrain/slope-aspect.ts";
 import { topographicPositionIndex } from "../../app/terrain/tpi.ts";
 import { hillshade } from "../../app/terrain/hillshade.ts";
 import { heightAboveSea } from "../../app/terrain/height-above-sea.ts";
-import { type LayerOut, reconstruct } from "../../app/terrain/reconstruct.ts";
+import { type LayerOut, interiorOutletsAsNodata, reconstruct } from "../../app/terrain/reconstruct.ts";
 import { workerAgeRunner } from "../../app/terrain/reconstruct-worker.ts";
 import { writeGeoTiff } from "../../app/terrain/geotiff-write.ts";
 
@@ -93,10 +93,12 @@ async function main() {
     const sl = seaLevelLayerAt(model, spec, age);
     const cls = timed("classes at the age", () => classifyAtAge(grid, spill, sl, TIDAL_M));
     const outlets = outletMask(cls.classes, boundary);
-    const filled = timed("fill (Priority-Flood)", () => fillDepressions(grid, outlets));
-    const fg = { spec, data: filled.filledM, nodata };
+    // as the pipeline does: open water (outlets with no land neighbour) is left out of routing
+    const route = timed("routing mask (open water left out)", () => interiorOutletsAsNodata(spec, outlets, nodata));
+    const filled = timed("fill (Priority-Flood)", () => fillDepressions({ spec, data: grid.data, nodata: route }, outlets));
+    const fg = { spec, data: filled.filledM, nodata: route };
     const dirs = timed("D8 + flats", () => resolveFlats(fg, flowDirectionD8(fg, filled.outlets)).directions);
-    const acc = timed("accumulation", () => flowAccumulation(spec, dirs, nodata));
+    const acc = timed("accumulation", () => flowAccumulation(spec, dirs, route));
     const streams = timed("streams (threshold)", () => streamMask(spec, acc.upstreamCells, STREAM_KM2, waterMask(cls.classes)));
     timed("Strahler order", () => strahlerOrder(spec, dirs, streams, acc.order, acc.validCount));
     const sea = seaAtTidalLevel(spill.spillM, sl, TIDAL_M, 0);
@@ -118,7 +120,7 @@ async function main() {
     timed("hillshade", () => hillshade(grid.data, spec.width, spec.height, spec.cellSizeX, spec.cellSizeY, {}, nodata));
     timed("flooding history", () => floodingHistory(grid, spill.spillM, model, { tidalRange: TIDAL_M }));
     const chainSteps = [
-      "spill elevation (connected flooding)", "classes at the age", "fill (Priority-Flood)", "D8 + flats", "accumulation",
+      "spill elevation (connected flooding)", "classes at the age", "routing mask (open water left out)", "fill (Priority-Flood)", "D8 + flats", "accumulation",
       "streams (threshold)", "shoreline", "distance to stream (EDT)", "distance to shoreline (EDT)", "slope and aspect (Horn)",
     ];
     const chainMs = steps.filter((s) => chainSteps.includes(s.step)).reduce((a, s) => a + s.ms, 0);
