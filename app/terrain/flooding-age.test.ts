@@ -85,6 +85,32 @@ describe("floodingHistory — flooding age against the sea-level curve", () => {
     expect(reexposed).toBeGreaterThan(20); // (paper) the curve falls twice: those cells were re-exposed
   });
 
+  it("floods, re-exposes and drowns a cell on a hand-made curve (formula)", () => {
+    // rises −60 → −40 m (14 → 12 ka), falls to −50 m (10 ka), rises to 0 (present)
+    const c = parseSeaLevelCsv("age_ka,rsl_m\n0,0\n10,-50\n12,-40\n14,-60\n", { name: "invented" });
+    const { grid, spill } = cells([-45, -55, -35, -65]);
+    const h = floodingHistory(grid, spill, { kind: "curve", curve: c }, { coastBandM: 2 });
+    // (formula) spill −45: first reached at 14 − 2·15/20 = 12.5 ka, exposed again at 12 − 2·5/10 = 11 ka,
+    // drowned for good at 10 − 10·5/50 = 9 ka while rising 5 m/ka
+    expect(h.firstFloodingAgeKa[0]).toBeCloseTo(12.5, 6);
+    expect(h.reexposures[0]).toBe(1);
+    expect(h.floodingAgeKa[0]).toBeCloseTo(9, 6);
+    expect(h.riseRateMPerKa[0]).toBeCloseTo(5, 6);
+    expect(h.status[0]).toBe(FLOOD_DROWNED_IN_WINDOW);
+    // (formula) within ±2 m of −45: 4 m at 10 m/ka on the first rise (0.4 ka), 4 m at 5 m/ka on the fall
+    // (0.8 ka) and on the last rise (0.8 ka)
+    expect(h.timeNearCoastKa[0]).toBeCloseTo(2.0, 6);
+    // spill −55: never exposed again (the fall stops at −50): drowned at 14 − 2·5/20 = 13.5 ka
+    expect(h.floodingAgeKa[1]).toBeCloseTo(13.5, 6);
+    expect(h.reexposures[1]).toBe(0);
+    // spill −35: only the final rise reaches it, at 10 − 10·15/50 = 7 ka
+    expect(h.firstFloodingAgeKa[2]).toBeCloseTo(7, 6);
+    expect(h.floodingAgeKa[2]).toBeCloseTo(7, 6);
+    // spill −65: sea throughout the curve
+    expect(h.status[3]).toBe(FLOOD_SEA_THROUGHOUT);
+    expect(h.floodingAgeKa[3]).toBe(14);
+  });
+
   it("time near the coast and in the intertidal band match a fine numerical integration", () => {
     const { grid, spill } = cells([-120, -60, -30, -5, -134, 0.5]);
     const h = floodingHistory(grid, spill, model, { coastBandM: 5, tidalRange: 4 });
