@@ -35,8 +35,8 @@ export function gridFromRows(rows: number[][], cellSizeX = 10, cellSizeY = cellS
 }
 
 /**
- * A random, rough terrain: a tilted plane (falling towards the south) plus noise and a few random
- * pits and nodata holes, with values quantised to 0.5 m so flats occur.
+ * A random, rough terrain: a tilted plane (falling towards the south) plus noise (which makes many
+ * pits) and optional nodata holes, with values quantised (default 0.5 m) so flats occur.
  */
 export function randomTerrain(
   seed: number,
