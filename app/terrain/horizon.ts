@@ -347,19 +347,12 @@ export function delaunayTriangles(xs: ArrayLike<number>, ys: ArrayLike<number>):
     X[i] = (xs[i] - cxm) / scale;
     Y[i] = (ys[i] - cym) / scale;
   }
-  const S = 50; // enclosing triangle, counter-clockwise
+  const S = 50; // enclosing triangle, counter-clockwise, far outside the unit square
   X[m] = -S; Y[m] = -S;
   X[m + 1] = S; Y[m + 1] = -S;
   X[m + 2] = 0; Y[m + 2] = S;
 
-  const cap = 2 * (m + 3) + 1;
-  const tv = new Int32Array(3 * cap);
-  const tn = new Int32Array(3 * cap).fill(-1);
-  tv[0] = m; tv[1] = m + 1; tv[2] = m + 2;
-  let nt = 1;
-  const stack = new Int32Array(2 * cap + 16);
-
-  // serpentine bin order
+  // serpentine bin order keeps consecutive points close, so walks stay short
   const nb = Math.max(1, Math.round(Math.sqrt(m / 8)));
   const key = new Float64Array(m);
   for (let i = 0; i < m; i++) {
@@ -370,36 +363,83 @@ export function delaunayTriangles(xs: ArrayLike<number>, ys: ArrayLike<number>):
   }
   const order = Array.from({ length: m }, (_, i) => i).sort((a, b) => key[a] - key[b]);
 
-  const orient = (a: number, b: number, c: number): number => (X[b] - X[a]) * (Y[c] - Y[a]) - (Y[b] - Y[a]) * (X[c] - X[a]);
-  const inCircle = (a: number, b: number, c: number, d: number): number => {
-    const adx = X[a] - X[d], ady = Y[a] - Y[d];
-    const bdx = X[b] - X[d], bdy = Y[b] - Y[d];
-    const cdx = X[c] - X[d], cdy = Y[c] - Y[d];
-    return (adx * adx + ady * ady) * (bdx * cdy - cdx * bdy) - (bdx * bdx + bdy * bdy) * (adx * cdy - cdx * ady) + (cdx * cdx + cdy * cdy) * (adx * bdy - bdx * ady);
-  };
-  const replaceNeighbour = (t: number, from: number, to: number): void => {
-    if (t < 0) return;
-    for (let k = 0; k < 3; k++) if (tn[3 * t + k] === from) { tn[3 * t + k] = to; return; }
-  };
-  const setTri = (t: number, a: number, b: number, c: number, na: number, nb2: number, nc: number): void => {
-    tv[3 * t] = a; tv[3 * t + 1] = b; tv[3 * t + 2] = c;
-    tn[3 * t] = na; tn[3 * t + 1] = nb2; tn[3 * t + 2] = nc;
-  };
-  const EPS = 1e-13;
-  let last = 0;
-  let sp = 0;
-  const push = (t: number, e: number): void => { stack[sp++] = t; stack[sp++] = e; };
+  const mesh = new Mesh(X, Y, m);
+  for (const p of order) mesh.insert(p);
+  return mesh.realTriangles();
+}
 
-  const locate = (pIdx: number): number => {
-    let t = last;
+/** orientation of (a, b, c): > 0 counter-clockwise */
+function orient(X: Float64Array, Y: Float64Array, a: number, b: number, c: number): number {
+  return (X[b] - X[a]) * (Y[c] - Y[a]) - (Y[b] - Y[a]) * (X[c] - X[a]);
+}
+
+/** > 0 when d lies inside the circumcircle of the counter-clockwise triangle (a, b, c) */
+function inCircle(X: Float64Array, Y: Float64Array, a: number, b: number, c: number, d: number): number {
+  const adx = X[a] - X[d], ady = Y[a] - Y[d];
+  const bdx = X[b] - X[d], bdy = Y[b] - Y[d];
+  const cdx = X[c] - X[d], cdy = Y[c] - Y[d];
+  return (adx * adx + ady * ady) * (bdx * cdy - cdx * bdy) - (bdx * bdx + bdy * bdy) * (adx * cdy - cdx * ady) + (cdx * cdx + cdy * cdy) * (adx * bdy - bdx * ady);
+}
+
+const ORIENT_EPS = 1e-13;
+
+/**
+ * A triangle mesh in typed arrays: triangle t has vertices tv[3t..3t+2] counter-clockwise and, across
+ * its edge k (from vertex k to vertex k+1), the neighbour tn[3t+k] (−1 for none).
+ */
+class Mesh {
+  private readonly tv: Int32Array;
+  private readonly tn: Int32Array;
+  private nt = 1;
+  private last = 0;
+  private readonly stack: Int32Array;
+  private sp = 0;
+
+  constructor(
+    private readonly X: Float64Array,
+    private readonly Y: Float64Array,
+    private readonly m: number,
+  ) {
+    const cap = 2 * (m + 3) + 1;
+    this.tv = new Int32Array(3 * cap);
+    this.tn = new Int32Array(3 * cap).fill(-1);
+    this.tv[0] = m;
+    this.tv[1] = m + 1;
+    this.tv[2] = m + 2;
+    this.stack = new Int32Array(2 * cap + 16);
+  }
+
+  private setTri(t: number, a: number, b: number, c: number, na: number, nb: number, nc: number): void {
+    const tv = this.tv, tn = this.tn;
+    tv[3 * t] = a; tv[3 * t + 1] = b; tv[3 * t + 2] = c;
+    tn[3 * t] = na; tn[3 * t + 1] = nb; tn[3 * t + 2] = nc;
+  }
+
+  private replaceNeighbour(t: number, from: number, to: number): void {
+    if (t < 0) return;
+    for (let k = 0; k < 3; k++) {
+      if (this.tn[3 * t + k] === from) {
+        this.tn[3 * t + k] = to;
+        return;
+      }
+    }
+  }
+
+  private push(t: number, e: number): void {
+    this.stack[this.sp++] = t;
+    this.stack[this.sp++] = e;
+  }
+
+  /** the triangle holding point p: a walk from the last insertion, else a scan (near-degenerate input) */
+  private locate(p: number): number {
+    const { X, Y, tv, tn } = this;
+    let t = this.last;
     let rot = 0;
-    for (let steps = 0; steps <= nt + 8; steps++) {
+    for (let steps = 0; steps <= this.nt + 8; steps++) {
       let moved = false;
       for (let j = 0; j < 3; j++) {
         const k = (j + rot) % 3;
-        const a = tv[3 * t + k];
-        const b = tv[3 * t + ((k + 1) % 3)];
-        if (orient(a, b, pIdx) < -EPS) {
+        if (orient(X, Y, tv[3 * t + k], tv[3 * t + ((k + 1) % 3)], p) < -ORIENT_EPS) {
           const u = tn[3 * t + k];
           if (u < 0) break;
           t = u;
@@ -410,90 +450,110 @@ export function delaunayTriangles(xs: ArrayLike<number>, ys: ArrayLike<number>):
       if (!moved) return t;
       rot = (rot + 1) % 3;
     }
-    // the walk did not settle (near-degenerate input): scan every triangle
     let best = 0;
     let bestScore = -Infinity;
-    for (let t2 = 0; t2 < nt; t2++) {
-      const s = Math.min(orient(tv[3 * t2], tv[3 * t2 + 1], pIdx), orient(tv[3 * t2 + 1], tv[3 * t2 + 2], pIdx), orient(tv[3 * t2 + 2], tv[3 * t2], pIdx));
-      if (s > bestScore) { bestScore = s; best = t2; }
+    for (let t2 = 0; t2 < this.nt; t2++) {
+      const a = tv[3 * t2], b = tv[3 * t2 + 1], c = tv[3 * t2 + 2];
+      const sc = Math.min(orient(X, Y, a, b, p), orient(X, Y, b, c, p), orient(X, Y, c, a, p));
+      if (sc > bestScore) {
+        bestScore = sc;
+        best = t2;
+      }
     }
     return best;
-  };
+  }
 
-  for (const pIdx of order) {
-    const t = locate(pIdx);
+  /** inserts point p (skipped if it duplicates a vertex), then restores the Delaunay property */
+  insert(p: number): void {
+    const { X, Y, tv, tn } = this;
+    const t = this.locate(p);
     const a0 = tv[3 * t], a1 = tv[3 * t + 1], a2 = tv[3 * t + 2];
-    const o0 = orient(a0, a1, pIdx), o1 = orient(a1, a2, pIdx), o2 = orient(a2, a0, pIdx);
-    const z0 = Math.abs(o0) <= EPS, z1 = Math.abs(o1) <= EPS, z2 = Math.abs(o2) <= EPS;
-    if ((z0 && z1) || (z1 && z2) || (z0 && z2)) continue; // duplicate of a vertex
+    const z0 = Math.abs(orient(X, Y, a0, a1, p)) <= ORIENT_EPS;
+    const z1 = Math.abs(orient(X, Y, a1, a2, p)) <= ORIENT_EPS;
+    const z2 = Math.abs(orient(X, Y, a2, a0, p)) <= ORIENT_EPS;
+    if ((z0 && z1) || (z1 && z2) || (z0 && z2)) return; // duplicate of a vertex
     const onEdge = z0 ? 0 : z1 ? 1 : z2 ? 2 : -1;
     if (onEdge >= 0 && tn[3 * t + onEdge] >= 0) {
-      // split t and its neighbour across edge a→b into four
+      // p on edge a→b of t: split t and its neighbour u across that edge into four
       const k = onEdge;
       const a = tv[3 * t + k], b = tv[3 * t + ((k + 1) % 3)], c = tv[3 * t + ((k + 2) % 3)];
       const nBC = tn[3 * t + ((k + 1) % 3)], nCA = tn[3 * t + ((k + 2) % 3)];
       const u = tn[3 * t + k];
       let f = 0;
       while (f < 3 && !(tv[3 * u + f] === b && tv[3 * u + ((f + 1) % 3)] === a)) f++;
-      if (f === 3) continue; // inconsistent mesh (should not happen): skip the point
+      if (f === 3) return; // inconsistent mesh (not expected): skip the point
       const d = tv[3 * u + ((f + 2) % 3)];
       const nAD = tn[3 * u + ((f + 1) % 3)], nDB = tn[3 * u + ((f + 2) % 3)];
-      const T1 = t, T2 = nt++, U1 = u, U2 = nt++;
-      setTri(T1, c, a, pIdx, nCA, U1, T2);
-      setTri(T2, b, c, pIdx, nBC, T1, U2);
-      setTri(U1, a, d, pIdx, nAD, U2, T1);
-      setTri(U2, d, b, pIdx, nDB, T2, U1);
-      replaceNeighbour(nBC, t, T2);
-      replaceNeighbour(nDB, u, U2);
-      push(T1, 0); push(T2, 0); push(U1, 0); push(U2, 0);
+      const T1 = t, T2 = this.nt++, U1 = u, U2 = this.nt++;
+      this.setTri(T1, c, a, p, nCA, U1, T2);
+      this.setTri(T2, b, c, p, nBC, T1, U2);
+      this.setTri(U1, a, d, p, nAD, U2, T1);
+      this.setTri(U2, d, b, p, nDB, T2, U1);
+      this.replaceNeighbour(nBC, t, T2);
+      this.replaceNeighbour(nDB, u, U2);
+      this.push(T1, 0); this.push(T2, 0); this.push(U1, 0); this.push(U2, 0);
     } else {
+      // p inside t: split it into three
       const n0 = tn[3 * t], n1 = tn[3 * t + 1], n2 = tn[3 * t + 2];
-      const T1 = nt++, T2 = nt++;
-      setTri(t, a0, a1, pIdx, n0, T1, T2);
-      setTri(T1, a1, a2, pIdx, n1, T2, t);
-      setTri(T2, a2, a0, pIdx, n2, t, T1);
-      replaceNeighbour(n1, t, T1);
-      replaceNeighbour(n2, t, T2);
-      push(t, 0); push(T1, 0); push(T2, 0);
+      const T1 = this.nt++, T2 = this.nt++;
+      this.setTri(t, a0, a1, p, n0, T1, T2);
+      this.setTri(T1, a1, a2, p, n1, T2, t);
+      this.setTri(T2, a2, a0, p, n2, t, T1);
+      this.replaceNeighbour(n1, t, T1);
+      this.replaceNeighbour(n2, t, T2);
+      this.push(t, 0); this.push(T1, 0); this.push(T2, 0);
     }
-    // Lawson: legalise the edges opposite the new point
-    while (sp > 0) {
-      let e = stack[--sp];
-      const tt = stack[--sp];
-      if (tv[3 * tt + ((e + 2) % 3)] !== pIdx) {
-        e = tv[3 * tt] === pIdx ? 1 : tv[3 * tt + 1] === pIdx ? 2 : tv[3 * tt + 2] === pIdx ? 0 : -1;
+    this.legalise(p);
+    this.last = t;
+  }
+
+  /** Lawson: flips every queued edge opposite p whose far vertex lies inside p's circumcircle */
+  private legalise(p: number): void {
+    const { X, Y, tv, tn, stack } = this;
+    while (this.sp > 0) {
+      let e = stack[--this.sp];
+      const t = stack[--this.sp];
+      if (tv[3 * t + ((e + 2) % 3)] !== p) {
+        e = tv[3 * t] === p ? 1 : tv[3 * t + 1] === p ? 2 : tv[3 * t + 2] === p ? 0 : -1;
         if (e < 0) continue;
       }
-      const u = tn[3 * tt + e];
+      const u = tn[3 * t + e];
       if (u < 0) continue;
-      const a = tv[3 * tt + e], b = tv[3 * tt + ((e + 1) % 3)];
+      const a = tv[3 * t + e], b = tv[3 * t + ((e + 1) % 3)];
       let f = 0;
       while (f < 3 && !(tv[3 * u + f] === b && tv[3 * u + ((f + 1) % 3)] === a)) f++;
       if (f === 3) continue;
       const q = tv[3 * u + ((f + 2) % 3)];
-      if (inCircle(a, b, pIdx, q) <= 0) continue;
-      if (orient(pIdx, a, q) <= 0 || orient(pIdx, q, b) <= 0) continue;
-      const nBP = tn[3 * tt + ((e + 1) % 3)], nPA = tn[3 * tt + ((e + 2) % 3)];
+      if (inCircle(X, Y, a, b, p, q) <= 0) continue;
+      // flip only when both new triangles have positive area: near-degenerate input cannot fold the mesh
+      if (orient(X, Y, p, a, q) <= 0 || orient(X, Y, p, q, b) <= 0) continue;
+      const nBP = tn[3 * t + ((e + 1) % 3)], nPA = tn[3 * t + ((e + 2) % 3)];
       const nAQ = tn[3 * u + ((f + 1) % 3)], nQB = tn[3 * u + ((f + 2) % 3)];
-      setTri(tt, pIdx, a, q, nPA, nAQ, u);
-      setTri(u, pIdx, q, b, tt, nQB, nBP);
-      replaceNeighbour(nAQ, u, tt);
-      replaceNeighbour(nBP, tt, u);
-      push(tt, 1);
-      push(u, 1);
-    }
-    last = t;
-  }
-  let real = 0;
-  for (let t = 0; t < nt; t++) if (tv[3 * t] < m && tv[3 * t + 1] < m && tv[3 * t + 2] < m) real++;
-  const out = new Int32Array(3 * real);
-  let o = 0;
-  for (let t = 0; t < nt; t++) {
-    if (tv[3 * t] < m && tv[3 * t + 1] < m && tv[3 * t + 2] < m) {
-      out[o++] = tv[3 * t]; out[o++] = tv[3 * t + 1]; out[o++] = tv[3 * t + 2];
+      this.setTri(t, p, a, q, nPA, nAQ, u);
+      this.setTri(u, p, q, b, t, nQB, nBP);
+      this.replaceNeighbour(nAQ, u, t);
+      this.replaceNeighbour(nBP, t, u);
+      this.push(t, 1);
+      this.push(u, 1);
     }
   }
-  return out;
+
+  /** triangles with no vertex of the enclosing triangle, as triplets of point indices */
+  realTriangles(): Int32Array {
+    const { tv, m } = this;
+    let real = 0;
+    for (let t = 0; t < this.nt; t++) if (tv[3 * t] < m && tv[3 * t + 1] < m && tv[3 * t + 2] < m) real++;
+    const out = new Int32Array(3 * real);
+    let o = 0;
+    for (let t = 0; t < this.nt; t++) {
+      if (tv[3 * t] < m && tv[3 * t + 1] < m && tv[3 * t + 2] < m) {
+        out[o++] = tv[3 * t];
+        out[o++] = tv[3 * t + 1];
+        out[o++] = tv[3 * t + 2];
+      }
+    }
+    return out;
+  }
 }
 
 // ---- picks CSV -------------------------------------------------------------------------------------
