@@ -12,6 +12,7 @@ const root = path.resolve(import.meta.dirname, "..");
 const dir = mkdtempSync(path.join(tmpdir(), "lowstand-cli-"));
 const dem = path.join(dir, "shelf.tif");
 const picks = path.join(dir, "picks.csv");
+const lines = path.join(dir, "lines.csv");
 const out = path.join(dir, "out");
 const grid = syntheticGrid(96, 7, 100);
 
@@ -26,20 +27,23 @@ beforeAll(() => {
   for (const [k, x] of [424050, 426050].entries())
     for (let f = 0, y = 6099995; y > 6090500; y -= 10, f++) rows.push(`BX-${k + 1},${f},${x},${y},2.5`);
   writeFileSync(picks, rows.join("\n") + "\n");
+  writeFileSync(lines, "line,fix,x,y\nBX-1,1,424050,6099995\nBX-1,2,424050,6090505\nTIE-9,1,420000,6095050\nTIE-9,2,429600,6095050\n");
 });
 afterAll(() => rmSync(dir, { recursive: true, force: true }));
 
 describe("reconstruct CLI", () => {
   it("writes one GeoTIFF per layer and age, in the DEM's CRS and grid, and a manifest", () => {
     requireTool("gdalinfo");
-    const r = cli(["--dem", dem, "--picks", picks, "--unassessed-m", "300", "--ages", "16,12", "--tidal-range", "2", "--stream-km2", "0.5", "--out", out, "--threads", "2"]);
+    const r = cli(["--dem", dem, "--picks", picks, "--unassessed-m", "300", "--lines", lines, "--ages", "16,12", "--tidal-range", "2", "--stream-km2", "0.5", "--out", out, "--threads", "2"]);
     expect(r.status, r.stderr).toBe(0);
     const manifest = JSON.parse(readFileSync(path.join(out, "manifest.json"), "utf8"));
     expect(manifest.agesKa).toEqual([16, 12]);
     expect(manifest.analysisSurface.kind).toBe("horizon");
     expect(existsSync(path.join(out, "run.log"))).toBe(true);
     for (const l of manifest.layers) expect(existsSync(path.join(out, l.file)), l.file).toBe(true);
-    expect(manifest.layers.some((l: { file: string }) => l.file === "dist_stream_12ka.tif")).toBe(true);
+    for (const f of ["dist_stream_12ka.tif", "dist_survey_line.tif", "dist_pick_line.tif", "unassessed.tif"]) {
+      expect(manifest.layers.some((l: { file: string }) => l.file === f), f).toBe(true);
+    }
     const info = JSON.parse(execFileSync("gdalinfo", ["-json", path.join(out, "height_above_sea_12ka.tif")], { encoding: "utf8" }));
     expect(info.size).toEqual([96, 96]);
     expect(info.geoTransform).toEqual([420000, 100, 0, 6100000, 0, -100]);

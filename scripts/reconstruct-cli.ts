@@ -19,6 +19,7 @@ import { toElevationMsl } from "../app/terrain/vertical-datum.ts";
 import { defaultGlobalCurve, parseSeaLevelCsv, type SeaLevelModel } from "../app/terrain/sea-level.ts";
 import { gridHorizon, parsePicksCsv, type HorizonResult } from "../app/terrain/horizon.ts";
 import { rasterizeChannels } from "../app/terrain/burn-in.ts";
+import { type SurveyLine, parseSurveyLinesCsv, parseSurveyLinesGeoJson } from "../app/terrain/survey-lines.ts";
 import { type LayerOut, type ReconstructInput, reconstruct, inlineAgeRunner } from "../app/terrain/reconstruct.ts";
 import { workerAgeRunner } from "../app/terrain/reconstruct-worker.ts";
 import type { Side } from "../app/terrain/flooding.ts";
@@ -39,6 +40,7 @@ const USAGE = `usage: node scripts/run-ts.mjs scripts/reconstruct-cli.ts --dem i
   --ocean-side SIDES       side(s) where the open ocean is: east, west, north, south, comma-separated (default east)
   --ages LIST              ages in ka BP, comma-separated
   --stream-km2 A           stream threshold area, km² (default 1)
+  --lines FILE             survey line navigation: CSV (line,fix,x,y) or GeoJSON LineStrings, in the grid's CRS
   --channels FILE          mapped palaeochannels, GeoJSON LineStrings in the grid's CRS
   --burn-m M               burn the channels in by M metres before filling (default 0: no burning)
   --tpi-radius-m M         TPI radius (default 500)
@@ -67,7 +69,7 @@ const FLAGS = new Set(["depth-positive-down", "compress", "help"]);
 const KNOWN = new Set([
   "dem", "epsg", "depth-positive-down", "datum-offset", "picks", "horizon", "horizon-name", "velocity", "unassessed-m",
   "vertical-resolution-m", "curve-csv", "tidal-range", "ocean-side", "ages", "stream-km2", "channels", "burn-m",
-  "tpi-radius-m", "threads", "compress", "out", "help",
+  "tpi-radius-m", "threads", "compress", "out", "help", "lines",
 ]);
 
 function str(a: Args, key: string): string | undefined {
@@ -208,6 +210,14 @@ async function main(): Promise<number> {
   let palaeochannels: Uint8Array | undefined;
   if (a.channels) palaeochannels = rasterizeChannels(spec, channelsFromGeoJson(readFile(str(a, "channels")!, "--channels").toString("utf8")));
 
+  let surveyLines: SurveyLine[] | undefined;
+  if (a.lines) {
+    const file = str(a, "lines")!;
+    const text = readFile(file, "--lines").toString("utf8");
+    surveyLines = /\.(geo)?json$/i.test(file) ? parseSurveyLinesGeoJson(text) : parseSurveyLinesCsv(text);
+    log(`survey lines ${file}: ${surveyLines.length} lines`);
+  }
+
   const input: ReconstructInput = {
     seabed,
     horizon,
@@ -217,6 +227,7 @@ async function main(): Promise<number> {
     tidalRangeM: num(a, "tidal-range", 0)!,
     streamThresholdKm2: num(a, "stream-km2", 1)!,
     palaeochannels,
+    surveyLines,
     burnDepthM: num(a, "burn-m", 0)!,
     tpiRadiusM: num(a, "tpi-radius-m", 500)!,
   };
@@ -258,7 +269,7 @@ async function main(): Promise<number> {
   const full = {
     ...manifest,
     layers: files,
-    inputs: { dem: path.resolve(demFile), picks: a.picks ? path.resolve(str(a, "picks")!) : null, horizon: a.horizon ? path.resolve(str(a, "horizon")!) : null, curve: a["curve-csv"] ?? null, verticalDatum: datum, crsSource: demRead.crsSource },
+    inputs: { dem: path.resolve(demFile), picks: a.picks ? path.resolve(str(a, "picks")!) : null, lines: a.lines ? path.resolve(str(a, "lines")!) : null, horizon: a.horizon ? path.resolve(str(a, "horizon")!) : null, curve: a["curve-csv"] ?? null, verticalDatum: datum, crsSource: demRead.crsSource },
     timing: { totalMs: performance.now() - t0, geotiffWriteMs: writeMs },
   };
   const mf = path.join(outDir, "manifest.json");

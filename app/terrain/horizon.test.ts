@@ -1,6 +1,6 @@
 import { describe, expect, it } from "vitest";
 import { delaunayTriangles, gridHorizon, parsePicksCsv, twtToThicknessM, type HorizonPicks } from "./horizon.ts";
-import { TerrainInputError, type GridSpec } from "./grid.ts";
+import { TerrainCancelled, TerrainInputError, type GridSpec } from "./grid.ts";
 import { mulberry32 } from "../../fixtures/terrain2/seeded-random.ts";
 
 const spec = (w: number, h: number, dx: number, dy = dx): GridSpec => ({
@@ -216,6 +216,23 @@ describe("gridHorizon", () => {
     expect(() => gridHorizon(seabed, s, bad, { unassessedBeyondM: 20, verticalResolutionM: 0.1 })).toThrow(/pick 2 \(line A\)/);
     const both: HorizonPicks = { ...bad, depthBelowSeabedM: [1, 1], twtMs: [1, 1] };
     expect(() => gridHorizon(seabed, s, both, { unassessedBeyondM: 20, verticalResolutionM: 0.1 })).toThrow(/either the depth/);
+  });
+});
+
+describe("gridHorizon progress and cancellation", () => {
+  it("reports its stages in order and stops with TerrainCancelled when asked", () => {
+    const s = spec(20, 20, 10);
+    const seabed = new Float32Array(400).fill(-30);
+    const p = linePicks(s, [400055, 400145], 2, () => 1);
+    const picks = { lineId: p.lineId, x: p.x, y: p.y, depthBelowSeabedM: p.v };
+    const seen: number[] = [];
+    gridHorizon(seabed, s, picks, { unassessedBeyondM: 50, verticalResolutionM: 0.1 }, { onProgress: (f) => seen.push(f) });
+    expect(seen[0]).toBe(0);
+    expect(seen.at(-1)).toBe(1);
+    expect(seen.length).toBeGreaterThanOrEqual(4);
+    for (let i = 1; i < seen.length; i++) expect(seen[i]).toBeGreaterThanOrEqual(seen[i - 1]);
+    let calls = 0;
+    expect(() => gridHorizon(seabed, s, picks, { unassessedBeyondM: 50, verticalResolutionM: 0.1 }, { shouldCancel: () => ++calls > 2 })).toThrow(TerrainCancelled);
   });
 });
 

@@ -121,7 +121,7 @@ export function gridHorizon(
   const vDefault = options.defaultVelocityMps ?? DEFAULT_SEDIMENT_VELOCITY_MPS;
   if (!(vDefault > 0)) throw new TerrainInputError(`the default velocity must be positive m/s, got ${vDefault}`);
   const maxGap = options.maxPickGapM ?? 2 * options.unassessedBeyondM;
-  const ticker = new Ticker(control, 4, "horizon");
+  const ticker = new Ticker(control, 4, "horizon", 0, 1, 1); // four stages, reported and checked for cancellation each
   ticker.start();
 
   // 1. each pick → horizon elevation; merge per cell

@@ -144,7 +144,13 @@ describe("reconstruct (inline)", () => {
       for (let yy = 5399990; yy > 5392900; yy -= 20) { lineId.push(String(e)); x.push(e); y.push(yy); d.push(3); }
     const hz = gridHorizon(input.seabed.data, spec, { lineId, x, y, depthBelowSeabedM: d }, { unassessedBeyondM: 400, verticalResolutionM: 0.3 });
     const { layers: l2, sink: s2 } = collect();
-    const m = await reconstruct({ ...input, agesKa: [12], horizon: { name: "transgressive surface", result: hz } }, { sink: s2 });
+    const surveyLines = [{ id: "tie-1", x: [600100, 614300], y: [5396000, 5396000] }];
+    const m = await reconstruct({ ...input, agesKa: [12], horizon: { name: "transgressive surface", result: hz }, surveyLines }, { sink: s2 });
+    // (formula) the tie line runs along row (5400000 − 5396000)/150 = 26.67 → row 26; a cell in
+    // row 20 of the same column lies 6 rows × 150 m = 900 m from it
+    const dsl = l2.get("dist_survey_line@-")!.data as Float32Array;
+    expect(dsl[26 * W + 30]).toBe(0);
+    expect(dsl[20 * W + 30]).toBeCloseTo(900, 3);
     expect(m.analysisSurface.kind).toBe("horizon");
     expect(m.analysisSurface.note).toMatch(/transgressive surface/);
     expect(m.analysisSurface.horizonCells).toBe(hz.assessedCells);
@@ -161,7 +167,7 @@ describe("reconstruct (inline)", () => {
     expect(un[0]).toBe(255); // nodata corner of the seabed
     expect(un[east]).toBe(1);
     expect(un[cell]).toBe(0);
-    expect(l2.has("dist_survey_line@-")).toBe(true);
+    expect(l2.has("dist_pick_line@-")).toBe(true);
     const direct = analysisSurface(input.seabed, hz.elevationM);
     expect(direct.horizonCells + direct.seabedCells).toBe(W * H - 9);
   });

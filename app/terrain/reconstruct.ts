@@ -48,6 +48,7 @@ import type { HorizonResult } from "./horizon.ts";
 import { type SeaLevelModel, modelNotes, modelRange, seaLevelAt, seaLevelLayerAt, validateSeaLevelModel } from "./sea-level.ts";
 import { lakeMargins, riverMouths, seaAtTidalLevel, shorelineMask, waterMask } from "./shoreline.ts";
 import { slopeAspect } from "./slope-aspect.ts";
+import { type SurveyLine, distanceToNearestLine } from "./survey-lines.ts";
 import { confluences, strahlerOrder, streamMask } from "./streams.ts";
 import { topographicPositionIndex } from "./tpi.ts";
 
@@ -139,6 +140,8 @@ export interface ReconstructInput {
   burnDepthM?: number;
   tpiRadiusM?: number;
   coastBandM?: number;
+  /** survey line navigation (project CRS): gives the dist_survey_line layer */
+  surveyLines?: SurveyLine[];
 }
 
 export interface ReconstructOptions extends RunControl {
@@ -551,7 +554,10 @@ export async function reconstruct(input: ReconstructInput, options: ReconstructO
     await sink(out("thin_cover", null, "uint8", "mask", 255, markNodata(hz.belowResolution.slice(), seabed.nodata)));
     const dl = finiteOrNaN(hz.distanceToLineM.slice(), seabed.nodata);
     const dlStats = layerStats(dl, "NaN");
-    if (dlStats.validCount > 0) await sink({ name: "dist_survey_line", ageKa: null, type: "float32", units: "m", nodata: "NaN", data: dl, stats: dlStats });
+    if (dlStats.validCount > 0) await sink({ name: "dist_pick_line", ageKa: null, type: "float32", units: "m", nodata: "NaN", data: dl, stats: dlStats });
+  }
+  if (input.surveyLines && input.surveyLines.length > 0) {
+    await sink(out("dist_survey_line", null, "float32", "m", "NaN", finiteOrNaN(distanceToNearestLine(input.surveyLines, spec), seabed.nodata)));
   }
   staticT["analysis surface"] = performance.now() - t0;
   t0 = performance.now();

@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { distanceToNearestLine, rasteriseLines } from "./survey-lines.ts";
+import { distanceToNearestLine, parseSurveyLinesCsv, parseSurveyLinesGeoJson, rasteriseLines } from "./survey-lines.ts";
 import { TerrainInputError, type GridSpec } from "./grid.ts";
 import { mulberry32 } from "../../fixtures/terrain2/seeded-random.ts";
 
@@ -66,5 +66,27 @@ describe("distanceToNearestLine", () => {
   it("is +Infinity everywhere when no line touches the grid", () => {
     const d = distanceToNearestLine([{ id: "far", x: [0, 10], y: [0, 10] }], spec);
     expect(d.every((v) => v === Infinity)).toBe(true);
+  });
+});
+
+describe("parseSurveyLinesCsv / parseSurveyLinesGeoJson", () => {
+  it("groups fixes by line, sorts by fix, and names a bad cell", () => {
+    const lines = parseSurveyLinesCsv("line,fix,x,y\nSW-2,2,1020,4990\nSW-2,1,1010,4990\nSW-3,1,1000,4980\n");
+    expect(lines.map((l) => l.id)).toEqual(["SW-2", "SW-3"]);
+    expect(Array.from(lines[0].x)).toEqual([1010, 1020]);
+    expect(() => parseSurveyLinesCsv("line,x,y\nA,1,zz\n")).toThrow(/row 2, column "y"/);
+  });
+
+  it("reads LineString and MultiLineString features and refuses points", () => {
+    const gj = JSON.stringify({
+      type: "FeatureCollection",
+      features: [
+        { type: "Feature", properties: { line: "NE-4" }, geometry: { type: "LineString", coordinates: [[1000, 4990], [1100, 4990]] } },
+        { type: "Feature", properties: {}, geometry: { type: "MultiLineString", coordinates: [[[1000, 4960], [1050, 4960]], [[1100, 4960], [1150, 4960]]] } },
+      ],
+    });
+    const lines = parseSurveyLinesGeoJson(gj);
+    expect(lines.map((l) => l.id)).toEqual(["NE-4", "2#1", "2#2"]);
+    expect(() => parseSurveyLinesGeoJson(JSON.stringify({ type: "Point", coordinates: [1, 2] }))).toThrow(/is a Point/);
   });
 });

@@ -103,3 +103,66 @@ export function distanceToNearestLine(lines: readonly SurveyLine[], spec: GridSp
   const mask = rasteriseLines(lines, spec);
   return euclideanDistance(mask, spec.width, spec.height, spec.cellSizeX, spec.cellSizeY);
 }
+
+/**
+ * Parses line navigation from CSV with a header: `line`, `x`, `y` (project-CRS metres) and optionally
+ * `fix`; other columns are ignored. Fixes keep the file's order within a line, or are sorted by `fix`
+ * (numerically) when that column is given. Throws TerrainInputError naming the row (1-based, header =
+ * row 1) and column of the first bad value. O(k log k) for k fixes.
+ */
+export function parseSurveyLinesCsv(text: string): SurveyLine[] {
+  const rows = text.split(/\r?\n/).filter((l) => l.trim() !== "");
+  if (rows.length < 2) throw new TerrainInputError("survey lines CSV: needs a header row and at least one fix");
+  const header = rows[0].split(",").map((h) => h.trim().toLowerCase());
+  const iLine = header.indexOf("line"), iX = header.indexOf("x"), iY = header.indexOf("y"), iFix = header.indexOf("fix");
+  for (const [name, i] of [["line", iLine], ["x", iX], ["y", iY]] as const) {
+    if (i < 0) throw new TerrainInputError(`survey lines CSV: no "${name}" column in the header (found: ${header.join(", ")})`);
+  }
+  const byLine = new Map<string, { fix: number; x: number; y: number }[]>();
+  for (let r = 1; r < rows.length; r++) {
+    const cells = rows[r].split(",");
+    const id = (cells[iLine] ?? "").trim();
+    if (id === "") throw new TerrainInputError(`survey lines CSV row ${r + 1}, column "line": empty line id`);
+    const val = (i: number, name: string) => {
+      const s = (cells[i] ?? "").trim();
+      const v = Number(s);
+      if (s === "" || !Number.isFinite(v)) throw new TerrainInputError(`survey lines CSV row ${r + 1}, column "${name}": "${s}" is not a number`);
+      return v;
+    };
+    const fix = iFix >= 0 ? val(iFix, "fix") : r;
+    let list = byLine.get(id);
+    if (!list) byLine.set(id, (list = []));
+    list.push({ fix, x: val(iX, "x"), y: val(iY, "y") });
+  }
+  const out: SurveyLine[] = [];
+  for (const [id, fixes] of byLine) {
+    if (iFix >= 0) fixes.sort((a, b) => a.fix - b.fix);
+    out.push({ id, x: fixes.map((f) => f.x), y: fixes.map((f) => f.y) });
+  }
+  return out;
+}
+
+/**
+ * Survey lines from GeoJSON text (RFC 7946 structure, coordinates already in the project CRS):
+ * LineString or MultiLineString features; the line id is the feature's `line` or `id` property, else
+ * its position. Throws TerrainInputError for other geometry types or malformed JSON. O(fixes).
+ */
+export function parseSurveyLinesGeoJson(text: string): SurveyLine[] {
+  let gj: { type?: string; features?: { id?: string | number; properties?: Record<string, unknown> | null; geometry?: { type: string; coordinates: unknown } | null }[] };
+  try {
+    gj = JSON.parse(text);
+  } catch (e) {
+    throw new TerrainInputError(`survey lines: not valid JSON (${(e as Error).message})`);
+  }
+  const features = gj.type === "FeatureCollection" ? (gj.features ?? []) : [{ geometry: gj as { type: string; coordinates: unknown } }];
+  const out: SurveyLine[] = [];
+  features.forEach((f, k) => {
+    const g = f.geometry;
+    if (!g) return;
+    const id = String(f.properties?.line ?? f.properties?.id ?? f.id ?? k + 1);
+    const parts = g.type === "LineString" ? [g.coordinates as number[][]] : g.type === "MultiLineString" ? (g.coordinates as number[][][]) : null;
+    if (!parts) throw new TerrainInputError(`survey lines: feature ${k + 1} (${id}) is a ${g.type}; give LineStrings`);
+    parts.forEach((c, j) => out.push({ id: parts.length > 1 ? `${id}#${j + 1}` : id, x: c.map((p) => p[0]), y: c.map((p) => p[1]) }));
+  });
+  return out;
+}
