@@ -6,6 +6,8 @@
 // so one world serves the whole matrix.
 import { beforeAll, describe, expect, it } from "vitest";
 import routes from "./routes";
+import { db } from "./db.server";
+import { datasets } from "./db/schema";
 import { buildWorld, call, cookieFor, EVERYONE, headersFor, isRefusal, type CallOptions, type Who, type World } from "../tests/support/world";
 
 type Verdict = "allow" | "refuse";
@@ -14,6 +16,8 @@ interface Probe {
   method: "GET" | "POST" | "PATCH" | "DELETE";
   path: (w: World) => string;
   params?: (w: World) => Record<string, string>;
+  /** Params made fresh for each caller (for probes that delete what they are sent to). */
+  freshParams?: (w: World) => Promise<Record<string, string>>;
   options?: Omit<CallOptions, "method" | "headers" | "params">;
   /** Use a new session per caller (for probes that end the session they are sent with). */
   freshSessions?: boolean;
@@ -25,6 +29,7 @@ const signedInPages: Expect = { default: "allow", signedOut: "refuse", viewerTok
 const signedInApi: Expect = { default: "allow", signedOut: "refuse" };
 const projectPage = (allowed: Who[]): Expect => ({ default: "refuse", ...Object.fromEntries(allowed.map((w) => [w, "allow"])) });
 const MEMBERS: Who[] = ["owner", "lead", "analyst", "reviewer", "viewer"];
+const UPLOADERS: Who[] = ["owner", "lead", "analyst"];
 const pid = (w: World) => ({ projectId: String(w.projectId) });
 
 const MATRIX: Record<string, Probe[]> = {
@@ -86,6 +91,33 @@ const MATRIX: Record<string, Probe[]> = {
     { method: "PATCH", path: (w) => `/api/projects/${w.projectId}/members/999999`, params: (w) => ({ ...pid(w), userId: "999999" }), options: { json: { role: "viewer" } }, expect: projectPage(["owner", "lead"]) },
     { method: "DELETE", path: (w) => `/api/projects/${w.projectId}/members/999999`, params: (w) => ({ ...pid(w), userId: "999999" }), expect: projectPage(["owner", "lead"]) },
   ],
+  "routes/project-datasets.tsx": [
+    { method: "GET", path: (w) => `/projects/${w.projectId}/data`, params: pid, expect: projectPage(MEMBERS) },
+    { method: "POST", path: (w) => `/projects/${w.projectId}/data`, params: pid, options: { form: { kind: "bathymetry" } }, expect: projectPage(UPLOADERS) },
+  ],
+  "routes/project-dataset.tsx": [
+    { method: "GET", path: (w) => `/projects/${w.projectId}/data/x`, params: (w) => ({ ...pid(w), datasetId: String(datasetId) }), expect: projectPage(MEMBERS) },
+    { method: "POST", path: (w) => `/projects/${w.projectId}/data/x`, params: (w) => ({ ...pid(w), datasetId: String(datasetId) }), options: { form: { intent: "nothing" } }, expect: projectPage(UPLOADERS) },
+  ],
+  "routes/project-sites.tsx": [
+    { method: "GET", path: (w) => `/projects/${w.projectId}/sites`, params: pid, expect: projectPage(MEMBERS) },
+    // Any member reaches the action; only a custodian of the record's community may change it (tested in datasets.int.test.ts).
+    { method: "POST", path: (w) => `/projects/${w.projectId}/sites`, params: pid, options: { form: { siteId: "x" } }, expect: projectPage(MEMBERS) },
+  ],
+  "routes/api.project-datasets.ts": [
+    { method: "GET", path: (w) => `/api/projects/${w.projectId}/datasets`, params: pid, expect: projectPage([...MEMBERS, "viewerToken"]) },
+    { method: "POST", path: (w) => `/api/projects/${w.projectId}/datasets`, params: pid, options: { json: {} }, expect: projectPage(UPLOADERS) },
+  ],
+  "routes/api.dataset.ts": [
+    { method: "GET", path: () => `/api/datasets/x`, params: () => ({ datasetId: String(datasetId) }), expect: projectPage([...MEMBERS, "viewerToken"]) },
+    { method: "DELETE", path: () => `/api/datasets/x`, freshParams: async (w) => ({ datasetId: String(await makeDataset(w)) }), expect: projectPage(UPLOADERS) },
+  ],
+  "routes/api.project-sites.ts": [
+    { method: "GET", path: (w) => `/api/projects/${w.projectId}/sites`, params: pid, expect: projectPage([...MEMBERS, "viewerToken"]) },
+  ],
+  "routes/api.project-sites-export.ts": [
+    { method: "GET", path: (w) => `/api/projects/${w.projectId}/sites/export?format=csv`, params: pid, expect: projectPage(["owner", "lead"]) },
+  ],
 };
 
 interface RouteEntry {
@@ -99,8 +131,18 @@ function routeFiles(list: RouteEntry[]): string[] {
 const FILES = routeFiles(routes as RouteEntry[]);
 
 let world: World;
+let datasetId: number;
+/** A dataset row to probe (its storage keys point nowhere; deleting it tolerates that). */
+async function makeDataset(w: World): Promise<number> {
+  const [d] = await db()
+    .insert(datasets)
+    .values({ projectId: w.projectId, kind: "survey_area", name: "Probe", format: "geojson", originalKey: "uploads/p0/probe.json", originalName: "probe.geojson", sizeBytes: 1, sha256: "0", derivedKey: "datasets/p0/probe.json", derivedFormat: "geojson", crsEpsg: 32733, count: 1 })
+    .returning({ id: datasets.id });
+  return d.id;
+}
 beforeAll(async () => {
   world = await buildWorld("mx");
+  datasetId = await makeDataset(world);
 });
 
 describe("the development outbox", () => {
@@ -134,7 +176,7 @@ describe("authorization matrix", () => {
         for (const who of EVERYONE) {
           const res = await call(fn, probe.path(world), {
             method: probe.method,
-            params: probe.params?.(world) ?? {},
+            params: probe.freshParams ? await probe.freshParams(world) : (probe.params?.(world) ?? {}),
             headers: probe.freshSessions && who !== "signedOut" && who !== "viewerToken" ? { Cookie: await cookieFor(world.userIds[who]) } : headersFor(world, who),
             ...probe.options,
           });

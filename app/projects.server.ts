@@ -68,7 +68,7 @@ export async function createProject(actor: SessionUser, fields: { name: string; 
 
 export async function listMembers(projectId: number) {
   return db()
-    .select({ userId: users.id, name: users.name, email: users.email, role: memberships.role, since: memberships.createdAt })
+    .select({ userId: users.id, name: users.name, email: users.email, role: memberships.role, custodianFor: memberships.custodianFor, since: memberships.createdAt })
     .from(memberships)
     .innerJoin(users, eq(users.id, memberships.userId))
     .where(eq(memberships.projectId, projectId))
@@ -195,4 +195,20 @@ export async function removeMember(actor: SessionUser, actorRole: Role, projectI
 export async function memberCount(projectId: number): Promise<number> {
   const [r] = await db().select({ n: count() }).from(memberships).where(eq(memberships.projectId, projectId));
   return r.n;
+}
+
+/**
+ * Names the community a member speaks for as custodian (design §9), or clears it with null. The
+ * custodian then controls the visibility of the records that community contributed.
+ */
+export async function setCustodian(actor: SessionUser, projectId: number, userId: number, community: string | null, meta: RequestMeta = {}) {
+  await db().transaction(async (tx) => {
+    const rows = await tx
+      .update(memberships)
+      .set({ custodianFor: community })
+      .where(and(eq(memberships.projectId, projectId), eq(memberships.userId, userId)))
+      .returning({ userId: memberships.userId });
+    if (!rows.length) throw new UserError(404, "not_a_member", "That person is not a member of this project.");
+    await recordAudit(tx, { actorUserId: actor.id, projectId, action: "member.custodian_set", detail: { userId, community }, clientAddress: meta.clientAddress });
+  });
 }

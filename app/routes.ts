@@ -15,6 +15,9 @@ export default [
     index("routes/project-overview.tsx"),
     route("members", "routes/project-members.tsx"),
     route("audit", "routes/project-audit.tsx"),
+    route("data", "routes/project-datasets.tsx"),
+    route("data/:datasetId", "routes/project-dataset.tsx"),
+    route("sites", "routes/project-sites.tsx"),
   ]),
   route("dev/outbox", "routes/dev-outbox.tsx"),
   route("api/me", "routes/api.me.ts"),
@@ -22,4 +25,8 @@ export default [
   route("api/projects/:projectId", "routes/api.project.ts"),
   route("api/projects/:projectId/members", "routes/api.project-members.ts"),
   route("api/projects/:projectId/members/:userId", "routes/api.project-member.ts"),
+  route("api/projects/:projectId/datasets", "routes/api.project-datasets.ts"),
+  route("api/datasets/:datasetId", "routes/api.dataset.ts"),
+  route("api/projects/:projectId/sites", "routes/api.project-sites.ts"),
+  route("api/projects/:projectId/sites/export", "routes/api.project-sites-export.ts"),
 ] satisfies RouteConfig;

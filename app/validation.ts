@@ -43,3 +43,11 @@ export const projectFields = z.object({
 export const invitationFields = z.object({ email, role });
 
 export const tokenName = z.string().trim().min(1, "Name the token (what will use it).").max(80, "Token names are at most 80 characters.");
+
+/** A community's name as custodians are recorded (empty clears it). */
+export const communityName = z
+  .string()
+  .trim()
+  .max(120, "Community names are at most 120 characters.")
+  .refine((v) => !/[<>]/.test(v), { message: "Community names cannot contain < or >." })
+  .transform((v) => (v === "" ? null : v));

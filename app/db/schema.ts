@@ -2,7 +2,9 @@
 // Migrations are generated from this file into drizzle/ with `npm run db:generate` and committed.
 import { sql } from "drizzle-orm";
 import {
+  bigint,
   bigserial,
+  doublePrecision,
   boolean,
   index,
   integer,
@@ -14,6 +16,7 @@ import {
   text,
   timestamp,
   uniqueIndex,
+  uuid,
 } from "drizzle-orm/pg-core";
 
 const createdAt = () => timestamp("created_at", { withTimezone: true }).notNull().defaultNow();
@@ -30,6 +33,10 @@ export const projects = pgTable(
     crsEpsg: integer("crs_epsg").notNull(),
     /** True for the invented demonstration project seeded on an empty database. */
     isDemo: boolean("is_demo").notNull().default(false),
+    /** Known sites are shown to viewers snapped to the centres of cells this size (design §9). */
+    siteGeneralisationM: integer("site_generalisation_m").notNull().default(1000),
+    /** Generalised cells holding fewer known sites than this are not shown (small-count suppression). */
+    siteMinCount: integer("site_min_count").notNull().default(3),
     createdBy: integer("created_by").references(() => users.id, { onDelete: "set null" }),
     createdAt: createdAt(),
   },
@@ -80,6 +87,11 @@ export const memberships = pgTable(
     projectId: integer("project_id").notNull().references(() => projects.id, { onDelete: "cascade" }),
     userId: integer("user_id").notNull().references(() => users.id, { onDelete: "cascade" }),
     role: projectRole("role").notNull(),
+    /**
+     * The community this member speaks for as custodian (design §9, CARE principles): they control
+     * the visibility of the records that community contributed. Null for everyone else.
+     */
+    custodianFor: text("custodian_for"),
     createdAt: createdAt(),
   },
   (t) => [primaryKey({ columns: [t.projectId, t.userId] }), index("memberships_user_idx").on(t.userId)],
@@ -193,3 +205,140 @@ export const auditLog = pgTable(
   },
   (t) => [index("audit_project_idx").on(t.projectId, t.at)],
 );
+
+/** One uploaded piece of evidence (design §2), validated and stored. */
+export const datasets = pgTable(
+  "datasets",
+  {
+    id: serial("id").primaryKey(),
+    projectId: integer("project_id").notNull().references(() => projects.id, { onDelete: "cascade" }),
+    kind: text("kind").notNull(),
+    name: text("name").notNull(),
+    format: text("format").notNull(),
+    /** The file as uploaded (storage key made by the server) and its SHA-256. */
+    originalKey: text("original_key").notNull(),
+    originalName: text("original_name").notNull(),
+    sizeBytes: bigint("size_bytes", { mode: "number" }).notNull(),
+    sha256: text("sha256").notNull(),
+    /** The normalised form the engine reads: a Float32 GeoTIFF (grids) or JSON (vectors, tables). */
+    derivedKey: text("derived_key").notNull(),
+    derivedFormat: text("derived_format").notNull(),
+    crsEpsg: integer("crs_epsg").notNull(),
+    /** Vertical declaration (sign, datum, offset to present MSL), where the kind has heights. */
+    vertical: jsonb("vertical").$type<Record<string, unknown> | null>(),
+    extent: doublePrecision("extent").array(),
+    count: integer("count").notNull(),
+    summary: jsonb("summary").$type<Record<string, unknown>>().notNull().default({}),
+    warnings: text("warnings").array().notNull().default(sql`'{}'::text[]`),
+    uploadedBy: integer("uploaded_by").references(() => users.id, { onDelete: "set null" }),
+    createdAt: createdAt(),
+  },
+  (t) => [index("datasets_project_idx").on(t.projectId, t.kind)],
+);
+
+export const siteVisibility = pgEnum("site_visibility", ["normal", "restricted", "withheld"]);
+
+/**
+ * Known sites (design §2, §9): exact positions are confidential. Who sees what is decided in
+ * app/sites.server.ts only.
+ */
+export const siteRecords = pgTable(
+  "site_records",
+  {
+    id: serial("id").primaryKey(),
+    projectId: integer("project_id").notNull().references(() => projects.id, { onDelete: "cascade" }),
+    datasetId: integer("dataset_id").notNull().references(() => datasets.id, { onDelete: "cascade" }),
+    rowNumber: integer("row_number").notNull(),
+    label: text("label").notNull().default(""),
+    x: doublePrecision("x").notNull(),
+    y: doublePrecision("y").notNull(),
+    precisionM: doublePrecision("precision_m"),
+    siteKind: text("site_kind").notNull().default(""),
+    /** in_situ, derived, trawled or dredged: only in-situ sites are ever scored. */
+    context: text("context").notNull(),
+    discoveryMethod: text("discovery_method").notNull().default(""),
+    calBpFrom: doublePrecision("cal_bp_from"),
+    calBpTo: doublePrecision("cal_bp_to"),
+    confidence: text("confidence").notNull().default(""),
+    /** The community that contributed the record, whose custodian controls its visibility. */
+    community: text("community"),
+    visibility: siteVisibility("visibility").notNull().default("normal"),
+    attributes: jsonb("attributes").$type<Record<string, unknown>>().notNull().default({}),
+  },
+  (t) => [index("site_records_project_idx").on(t.projectId)],
+);
+
+export const jobState = pgEnum("job_state", ["queued", "running", "succeeded", "failed", "cancelled"]);
+
+/**
+ * One long task as people see it (a reconstruction, later scoring, training, sensitivity): its
+ * progress, heartbeat and outcome. The queue itself is pg-boss's (schema "pgboss"); this row is
+ * ours, written by the job wrapper in jobs/.
+ */
+export const jobRuns = pgTable(
+  "job_runs",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    projectId: integer("project_id").references(() => projects.id, { onDelete: "cascade" }),
+    kind: text("kind").notNull(),
+    state: jobState("state").notNull().default("queued"),
+    step: text("step").notNull().default(""),
+    fraction: doublePrecision("fraction").notNull().default(0),
+    message: text("message").notNull().default(""),
+    payload: jsonb("payload").$type<Record<string, unknown>>().notNull().default({}),
+    result: jsonb("result").$type<Record<string, unknown> | null>(),
+    /** The pg-boss job id of the current attempt. */
+    queueJobId: text("queue_job_id"),
+    attempt: integer("attempt").notNull().default(0),
+    heartbeatAt: timestamp("heartbeat_at", { withTimezone: true }),
+    cancelRequested: boolean("cancel_requested").notNull().default(false),
+    startedBy: integer("started_by").references(() => users.id, { onDelete: "set null" }),
+    createdAt: createdAt(),
+    startedAt: timestamp("started_at", { withTimezone: true }),
+    finishedAt: timestamp("finished_at", { withTimezone: true }),
+  },
+  (t) => [index("job_runs_project_idx").on(t.projectId, t.createdAt), index("job_runs_running_idx").on(t.state, t.heartbeatAt)],
+);
+
+export const reconstructionStatus = pgEnum("reconstruction_status", ["running", "published", "failed", "cancelled"]);
+
+/**
+ * A reconstruction (design §3): one analysis surface, one sea-level model, a list of ages. The
+ * manifest appears only when the attempt that owns the run publishes it, in one transaction.
+ * Identical inputs (content hashes, parameters, engine version) map to one row.
+ */
+export const reconstructions = pgTable(
+  "reconstructions",
+  {
+    id: serial("id").primaryKey(),
+    projectId: integer("project_id").notNull().references(() => projects.id, { onDelete: "cascade" }),
+    name: text("name").notNull().default(""),
+    inputsHash: text("inputs_hash").notNull(),
+    params: jsonb("params").$type<Record<string, unknown>>().notNull(),
+    engineVersion: text("engine_version").notNull(),
+    status: reconstructionStatus("status").notNull().default("running"),
+    jobRunId: uuid("job_run_id").references(() => jobRuns.id, { onDelete: "set null" }),
+    /** Storage prefix of the attempt whose layers were published. */
+    layerPrefix: text("layer_prefix"),
+    manifest: jsonb("manifest").$type<Record<string, unknown> | null>(),
+    error: text("error"),
+    createdBy: integer("created_by").references(() => users.id, { onDelete: "set null" }),
+    createdAt: createdAt(),
+    publishedAt: timestamp("published_at", { withTimezone: true }),
+  },
+  (t) => [uniqueIndex("reconstructions_inputs_key").on(t.projectId, t.inputsHash)],
+);
+
+/** A project's own relative sea-level curve (the shipped global curve lives in app/terrain). */
+export const seaLevelCurves = pgTable("sea_level_curves", {
+  id: serial("id").primaryKey(),
+  projectId: integer("project_id").notNull().references(() => projects.id, { onDelete: "cascade" }),
+  name: text("name").notNull(),
+  /** Where it came from: "copy of the shipped global curve", "imported CSV", … */
+  source: text("source").notNull().default(""),
+  /** [{ ageKa, rslM, sigmaM }], ages strictly increasing. */
+  points: jsonb("points").$type<Array<{ ageKa: number; rslM: number; sigmaM: number }>>().notNull(),
+  createdBy: integer("created_by").references(() => users.id, { onDelete: "set null" }),
+  createdAt: createdAt(),
+  updatedAt: timestamp("updated_at", { withTimezone: true }).notNull().defaultNow(),
+});

@@ -1,12 +1,13 @@
-// PATCH /api/projects/:projectId/members/:userId — change role: { "role": "reviewer" }.
+// PATCH /api/projects/:projectId/members/:userId — change role and/or custodianship:
+//   { "role": "reviewer" }, { "custodianFor": "Velmar shore families" } (null clears it).
 // DELETE — remove the member (their sessions end). The last owner can be neither demoted nor removed.
 import { z } from "zod";
 import { requireProjectAccess } from "~/permissions.server";
-import { changeMemberRole, removeMember } from "~/projects.server";
+import { changeMemberRole, removeMember, setCustodian } from "~/projects.server";
 import { readJson } from "~/api.server";
 import { apiAction, methodNotAllowed } from "~/route-helpers.server";
 import { apiError } from "~/security.server";
-import { role as roleRule } from "~/validation";
+import { communityName, role as roleRule } from "~/validation";
 import type { Route } from "./+types/api.project-member";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
@@ -21,9 +22,16 @@ export async function action({ request, params, context }: Route.ActionArgs) {
   const meta = { clientAddress: context?.clientAddress };
   return apiAction(async () => {
     if (request.method === "PATCH") {
-      const f = await readJson(request, z.object({ role: roleRule }).strict());
-      await changeMemberRole(identity.user, role, project.id, userId, f.role, meta);
-      return Response.json({ member: { userId, role: f.role } });
+      const f = await readJson(
+        request,
+        z
+          .object({ role: roleRule.optional(), custodianFor: communityName.nullable().optional() })
+          .strict()
+          .refine((v) => v.role !== undefined || v.custodianFor !== undefined, "Send role, custodianFor or both."),
+      );
+      if (f.role) await changeMemberRole(identity.user, role, project.id, userId, f.role, meta);
+      if (f.custodianFor !== undefined) await setCustodian(identity.user, project.id, userId, f.custodianFor ?? null, meta);
+      return Response.json({ member: { userId, ...f } });
     }
     if (request.method === "DELETE") {
       await removeMember(identity.user, role, project.id, userId, meta);

@@ -4,11 +4,11 @@ import { useEffect } from "react";
 import { Form, useActionData, useNavigation } from "react-router";
 import { z } from "zod";
 import { requireProjectAccess } from "~/permissions.server";
-import { changeMemberRole, inviteMember, removeMember, revokeInvitation } from "~/projects.server";
+import { changeMemberRole, inviteMember, removeMember, revokeInvitation, setCustodian } from "~/projects.server";
 import { memberListing, type MemberListing } from "~/members.server";
 import { formAction, parseForm } from "~/route-helpers.server";
 import { UserError } from "~/errors";
-import { invitationFields, role as roleRule } from "~/validation";
+import { communityName, invitationFields, role as roleRule } from "~/validation";
 import { can, mayAssignRole, ROLE_DUTIES, ROLE_LABELS, ROLES, type Role } from "~/permissions";
 import { Field, FormProblemNote, PrimaryButton, QuietButton, DangerButton } from "~/components/forms/Field";
 import type { Route } from "./+types/project-members";
@@ -44,13 +44,18 @@ export async function action({ request, params, context }: Route.ActionArgs) {
         await removeMember(identity.user, role, project.id, f.userId, meta);
         return { ok: "Member removed; their sessions have ended." };
       }
+      case "set-custodian": {
+        const f = parseForm(z.object({ userId: idField, community: communityName }), form);
+        await setCustodian(identity.user, project.id, f.userId, f.community, meta);
+        return { ok: f.community ? `Custodian for ${f.community} set.` : "Custodian role cleared." };
+      }
       case "revoke-invitation": {
         const f = parseForm(z.object({ invitationId: idField }), form);
         await revokeInvitation(identity.user, project.id, f.invitationId, meta);
         return { ok: "Invitation withdrawn." };
       }
       default:
-        throw new UserError(400, "unknown_intent", "Choose what to do: invite, change-role, remove or revoke-invitation.");
+        throw new UserError(400, "unknown_intent", "Choose what to do: invite, change-role, remove, set-custodian or revoke-invitation.");
     }
   });
 }
@@ -93,6 +98,7 @@ export default function ProjectMembers({ loaderData }: Route.ComponentProps) {
             <th className="py-1 pr-4">Name</th>
             <th className="py-1 pr-4">E-mail</th>
             <th className="py-1 pr-4">Role</th>
+            <th className="py-1 pr-4">Custodian for</th>
             {manage ? <th className="py-1">Change</th> : null}
           </tr>
         </thead>
@@ -105,6 +111,24 @@ export default function ProjectMembers({ loaderData }: Route.ComponentProps) {
               </td>
               <td className="py-1.5 pr-4">{m.email}</td>
               <td className="py-1.5 pr-4">{ROLE_LABELS[m.role as Role]}</td>
+              <td className="py-1.5 pr-4">
+                {manage ? (
+                  <Form method="post" className="flex gap-1">
+                    <input type="hidden" name="intent" value="set-custodian" />
+                    <input type="hidden" name="userId" value={m.userId} />
+                    <input
+                      name="community"
+                      defaultValue={m.custodianFor ?? ""}
+                      placeholder="—"
+                      aria-label={`Community ${m.name} speaks for as custodian`}
+                      className="w-32 rounded-sm border border-sand-300 px-1 text-sm"
+                    />
+                    <QuietButton type="submit">Save</QuietButton>
+                  </Form>
+                ) : (
+                  (m.custodianFor ?? "—")
+                )}
+              </td>
               {manage ? (
                 <td className="py-1.5">
                   {mayAssignRole(role, m.role as Role, m.role as Role) ? (
