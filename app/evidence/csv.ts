@@ -188,6 +188,8 @@ export function findColumns(table: Pick<CsvTable, "keys" | "header" | "headerLin
       idx = table.keys.indexOf(name);
       if (idx >= 0) break;
     }
+    // Shapefile (dBASE) field names are cut to 10 characters: "impact_depth_m" arrives as "impact_dep"
+    if (idx < 0) idx = table.keys.findIndex((k) => k.length === 10 && s.names.some((name) => name.length > 10 && name.startsWith(k)));
     out[s.key] = idx;
     if (idx < 0 && s.required) missing.push(s.names.length > 1 ? `"${s.names[0]}" (or ${s.names.slice(1).map((x) => `"${x}"`).join(", ")})` : `"${s.names[0]}"`);
   }
@@ -223,7 +225,7 @@ export class Problems {
   throwIfAny(): void {
     if (this.total === 0) return;
     const shown = this.list.map((p) => p.msg).join("; ");
-    const more = this.total > this.list.length ? ` (first ${this.list.length} of ${this.total} shown)` : "";
+    const more = this.total > this.list.length ? ` (first ${this.list.length} shown)` : "";
     const head = this.total === 1 ? `the ${this.what} has a problem: ` : `the ${this.what} has ${this.total} problems${more}: `;
     throw new EvidenceError(head + shown, this.list[0].where);
   }
