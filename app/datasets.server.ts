@@ -18,27 +18,9 @@ import { writeGeoTiff } from "./terrain/geotiff-write";
 import { nodeDeflate } from "./terrain/geotiff-deflate-node";
 import { z } from "zod";
 import { can } from "./permissions";
+import { KIND_LABELS, KINDS_WITH_HEIGHTS } from "./evidence-kinds";
 
-/** The kinds whose values are heights: the upload must declare sign and datum (design §2). */
-export const KINDS_WITH_HEIGHTS: ReadonlySet<EvidenceKind> = new Set(["bathymetry", "horizon_grid"]);
-
-export const KIND_LABELS: Record<EvidenceKind, string> = {
-  bathymetry: "Bathymetry / elevation grid",
-  horizon_picks: "Buried horizon: sub-bottom picks",
-  horizon_grid: "Buried horizon: grid",
-  survey_lines: "Survey lines",
-  interpretations: "Interpretations",
-  sea_level_curve: "Relative sea-level curve",
-  sea_level_index_points: "Sea-level index points",
-  tidal_range: "Palaeo-tidal range",
-  known_sites: "Known sites (confidential)",
-  cores: "Cores and boreholes",
-  lease_blocks: "Lease blocks",
-  survey_area: "Survey area",
-  ocean_boundary: "Open-ocean boundary",
-  exclusions: "Exclusion features",
-  development_footprint: "Development footprint",
-};
+export { KIND_LABELS, KINDS_WITH_HEIGHTS };
 
 const num = (label: string) =>
   z
@@ -53,14 +35,17 @@ const num = (label: string) =>
       return n;
     });
 
-export const uploadFields = z.object({
+/** Form fields left empty in a browser arrive as "": treat them as not given. */
+const blankToUndefined = (v: unknown) => (typeof v === "string" && v.trim() === "" ? undefined : v);
+
+export const uploadFields = z.preprocess((raw) => (raw && typeof raw === "object" ? Object.fromEntries(Object.entries(raw).map(([k, v]) => [k, blankToUndefined(v)])) : raw), z.object({
   kind: z.enum(EVIDENCE_KINDS, { error: `Choose what the file holds: ${EVIDENCE_KINDS.join(", ")}.` }),
   name: z.string().trim().max(160, "Dataset names are at most 160 characters.").refine((v) => !/[<>]/.test(v), "Dataset names cannot contain < or >.").optional(),
   sign: z.enum(["depth_positive_down", "elevation_positive_up"], { error: "Say whether the values are depths (positive down) or elevations (positive up)." }).optional(),
   datum: z.string().trim().max(80, "The datum name is at most 80 characters.").optional(),
   offset_to_msl_m: num("The offset to present mean sea level").optional(),
   declared_epsg: z.coerce.number().int().positive("The declared EPSG code must be a positive whole number.").optional(),
-});
+}));
 
 export type UploadFields = z.infer<typeof uploadFields>;
 

@@ -2,7 +2,8 @@
 import { useMemo, useState } from "react";
 import { Form, Link, useActionData, useNavigation } from "react-router";
 import { requireProjectAccess } from "~/permissions.server";
-import { ingestUpload, KIND_LABELS, KINDS_WITH_HEIGHTS, listDatasets } from "~/datasets.server";
+import { ingestUpload, listDatasets } from "~/datasets.server";
+import { KIND_LABELS, KINDS_WITH_HEIGHTS } from "~/evidence-kinds";
 import { receiveUpload, uploadMaxBytes } from "~/uploads.server";
 import { formatBytes } from "~/format";
 import { formAction } from "~/route-helpers.server";
@@ -102,13 +103,15 @@ export default function ProjectDatasets({ loaderData }: Route.ComponentProps) {
             <span className="block font-medium">Name (optional)</span>
             <input name="name" maxLength={160} className="mt-1 block w-full rounded-sm border border-sand-300 px-2 py-1.5" />
           </label>
-          <label className="text-sm md:col-span-2">
-            <span className="block font-medium">File</span>
-            <input name="file" type="file" required className="mt-1 block w-full text-sm" />
-            <span className="text-xs text-sediment-600">
+          <div className="text-sm md:col-span-2">
+            <label htmlFor="upload-file" className="block font-medium">
+              File
+            </label>
+            <input id="upload-file" name="file" type="file" required aria-describedby="upload-file-hint" className="mt-1 block w-full text-sm" />
+            <p id="upload-file-hint" className="text-xs text-sediment-600">
               GeoTIFF, ESRI ASCII grid, XYZ, CSV, GeoJSON, GeoPackage, zipped Shapefile or AGS4; up to {maxUpload}. Project CRS EPSG:{crsEpsg}; GeoJSON is read as WGS 84.
-            </span>
-          </label>
+            </p>
+          </div>
           {KINDS_WITH_HEIGHTS.has(kind) ? (
             <fieldset className="grid gap-3 rounded-sm border border-sand-200 p-3 md:col-span-2 md:grid-cols-3">
               <legend className="px-1 text-sm font-medium">Vertical reference (required)</legend>

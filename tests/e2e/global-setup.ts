@@ -4,6 +4,7 @@ import { spawn, execFileSync, type ChildProcess } from "node:child_process";
 import net from "node:net";
 import path from "node:path";
 import fs from "node:fs";
+import os from "node:os";
 import { createTestDatabase, dropTestDatabase } from "../support/test-db";
 import { demoUsers } from "../../scripts/demo/demo-data";
 import { AUTH_DIR } from "./fixtures";
@@ -64,6 +65,7 @@ export default async function globalSetup() {
 
   const port = await freePort();
   const smtpPort = await freePort();
+  const scratch = fs.mkdtempSync(path.join(os.tmpdir(), "lowstand-e2e-"));
   const baseUrl = `http://127.0.0.1:${port}`;
   let output = "";
   const child = spawn(process.execPath, ["server.mjs"], {
@@ -80,6 +82,9 @@ export default async function globalSetup() {
       LOWSTAND_MAIL_CATCHER_PORT: String(smtpPort),
       SMTP_URL: `smtp://127.0.0.1:${smtpPort}`,
       LOWSTAND_DEV_OUTBOX: "1",
+      STORAGE_DRIVER: "fs",
+      STORAGE_DIR: path.join(scratch, "storage"),
+      UPLOAD_TMP_DIR: path.join(scratch, "tmp"),
     },
     stdio: ["ignore", "pipe", "pipe"],
   });
@@ -93,5 +98,6 @@ export default async function globalSetup() {
     child.kill("SIGTERM");
     await new Promise((r) => child.once("exit", r));
     await dropTestDatabase(name);
+    fs.rmSync(scratch, { recursive: true, force: true });
   };
 }
