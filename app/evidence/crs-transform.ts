@@ -94,6 +94,14 @@ export function makeTransformer(src: SourceCrs, dst: Crs): Transformer {
  */
 export function plausibleIn(dst: Crs): (x: number, y: number) => boolean {
   const conv = proj4(WGS84.proj4, dst.proj4);
+  // Transverse Mercator (UTM and national grids) is only meaningful near its central meridian: far
+  // from it the formulas still round-trip but give nonsense (e.g. x and y swapped). Allow 20°.
+  const zone = /\+zone=(\d+)/.exec(dst.proj4);
+  const lon0m = /\+lon_0=(-?[\d.]+)/.exec(dst.proj4);
+  const tm = /\+proj=(utm|tmerc|etmerc)\b/.test(dst.proj4);
+  const lon0 = zone ? -183 + 6 * Number(zone[1]) : lon0m ? Number(lon0m[1]) : 0;
+  const south = /\+south\b/.test(dst.proj4);
+  const utm = /\+proj=utm\b/.test(dst.proj4);
   return (x, y) => {
     if (!Number.isFinite(x) || !Number.isFinite(y) || Math.abs(x) > 1e8 || Math.abs(y) > 1e8) return false;
     let ll: number[];
@@ -103,6 +111,8 @@ export function plausibleIn(dst: Crs): (x: number, y: number) => boolean {
       return false;
     }
     if (!Number.isFinite(ll[0]) || !Number.isFinite(ll[1]) || Math.abs(ll[1]) > 90) return false;
+    if (tm && Math.abs(((ll[0] - lon0 + 540) % 360) - 180) > 20) return false;
+    if (utm && (south ? ll[1] > 1 : ll[1] < -1)) return false;
     let back: number[];
     try {
       back = conv.forward([ll[0], ll[1]]) as number[];
@@ -151,13 +161,13 @@ export function checkPositions(
     const x = xs[i];
     const y = ys[i];
     if (!Number.isFinite(x) || !Number.isFinite(y)) continue;
-    if (!cornersOk && !ok(x, y)) {
-      bad(i, `(${x}, ${y}) is not a plausible position in the project CRS EPSG:${dst.epsg} (are x and y swapped, or in another CRS?)`);
-      continue;
-    }
     if (lonLatLike(x, y)) {
       // coordinates within 180 m of a projected CRS's false origin: far more likely degrees
       bad(i, `(${x}, ${y}) looks like longitude/latitude, not metres in EPSG:${dst.epsg}: name the columns lon and lat`);
+      continue;
+    }
+    if (!cornersOk && !ok(x, y)) {
+      bad(i, `(${x}, ${y}) is not a plausible position in the project CRS EPSG:${dst.epsg} (are x and y swapped, or in another CRS?)`);
       continue;
     }
     if (within && (x < within[0] || x > within[2] || y < within[1] || y > within[3])) {

@@ -45,7 +45,7 @@ export interface Positions {
  * them to the project CRS and checks they are plausible there and inside `withinExtent`.
  * Problems go to `problems` by row. O(n).
  */
-export function readPositions(table: CsvTable, problems: Problems, opts: ParseOptions, project: Crs, what: string, checkExtent = true): Positions {
+export function readPositions(table: CsvTable, problems: Problems, opts: ParseOptions, project: Crs, what: string, checkExtent = true, allowEmpty = false): Positions {
   const cols = findColumns(table, [X, Y, LON, LAT], what);
   const useXy = cols.x >= 0 && cols.y >= 0;
   const useLonLat = !useXy && cols.lon >= 0 && cols.lat >= 0;
@@ -63,8 +63,8 @@ export function readPositions(table: CsvTable, problems: Problems, opts: ParseOp
   const ky = useXy ? "y" : "lat";
   for (let k = 0; k < n; k++) {
     rr.at(k);
-    const a = rr.num(kx, { required: true, ...(useLonLat ? { min: -180, max: 360 } : {}) });
-    const b = rr.num(ky, { required: true, ...(useLonLat ? { min: -90, max: 90 } : {}) });
+    const a = rr.num(kx, { required: !allowEmpty, ...(useLonLat ? { min: -180, max: 360 } : {}) });
+    const b = rr.num(ky, { required: !allowEmpty, ...(useLonLat ? { min: -90, max: 90 } : {}) });
     x[k] = a ?? NaN;
     y[k] = b ?? NaN;
   }
@@ -404,7 +404,7 @@ function indexPoints(table: CsvTable, opts: ParseOptions, project: Crs, warnings
 function coresCsv(table: CsvTable, opts: ParseOptions, project: Crs, warnings: string[]) {
   const problems = new Problems("cores CSV");
   const cols = findColumns(table, CORE_COLUMNS, "cores CSV");
-  const pos = readPositions(table, problems, opts, project, "cores CSV");
+  const pos = readPositions(table, problems, opts, project, "cores CSV", true, true);
   const v = opts.vertical ? checkVertical(opts.vertical, "core water depth", warnings) : null;
   const rr = new RowReader(table, cols, problems);
   const cores = new Map<string, Record<string, unknown> & { units: unknown[]; dates: unknown[] }>();
@@ -423,6 +423,7 @@ function coresCsv(table: CsvTable, opts: ParseOptions, project: Crs, warnings: s
     const preserved = rr.word("preservedLandSurface", YES_NO_UNKNOWN, null);
     const indicators = rr.str("archaeologicalIndicators");
     if (!c) {
+      if (!Number.isFinite(pos.x[k]) && rr.str("x") === "" && rr.str("lon") === "") rr.problem(`core ${id} has no position on its first row`);
       if (penetrationM !== null && recoveryM !== null && recoveryM > penetrationM) {
         rr.problem(`recovery ${recoveryM} m is more than penetration ${penetrationM} m`, rr.name("recoveryM"));
       }
