@@ -114,7 +114,7 @@ export async function ingestUpload(
       const bytes = new Uint8Array(await fs.readFile(file.path));
       parsed = await parseEvidence(f.kind, bytes, { fileName: file.originalName, projectEpsg: project.crsEpsg, vertical, declaredEpsg: f.declared_epsg });
     } catch (e) {
-      if (e instanceof EvidenceError) throw new UserError(422, "invalid_file", e.message, "file");
+      if (e instanceof EvidenceError) throw new UserError(422, "invalid_file", sentence(e.message), "file");
       throw e;
     }
 
@@ -292,3 +292,8 @@ export function datasetView(d: typeof datasets.$inferSelect, role: import("./per
   };
 }
 
+
+/** Messages from the readers start in lower case (they are also used mid-sentence): capitalise for display. */
+function sentence(message: string): string {
+  return message.charAt(0).toUpperCase() + message.slice(1);
+}

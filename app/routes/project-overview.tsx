@@ -1,6 +1,8 @@
 import { requireProjectAccess } from "~/permissions.server";
 import { can } from "~/permissions";
 import { memberCount } from "~/projects.server";
+import { listDatasets } from "~/datasets.server";
+import { Link } from "react-router";
 import { Cautions } from "~/components/Cautions";
 import type { Route } from "./+types/project-overview";
 
@@ -9,6 +11,8 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   return {
     project: { name: project.name, summary: project.summary, crsEpsg: project.crsEpsg, isDemo: project.isDemo, createdAt: project.createdAt.toISOString() },
     members: await memberCount(project.id),
+    datasets: (await listDatasets(project.id)).length,
+    projectId: project.id,
     mayUpload: can(role, "data.upload"),
   };
 }
@@ -16,7 +20,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 export const meta = ({ data }: Route.MetaArgs) => [{ title: `${data?.project.name ?? "Project"} · Lowstand` }];
 
 export default function ProjectOverview({ loaderData }: Route.ComponentProps) {
-  const { project, members, mayUpload } = loaderData;
+  const { project, members, mayUpload, datasets, projectId } = loaderData;
   return (
     <div className="max-w-3xl space-y-6">
       <header>
@@ -33,11 +37,17 @@ export default function ProjectOverview({ loaderData }: Route.ComponentProps) {
         <dd className="tabular-nums sm:col-span-2">{project.createdAt.slice(0, 10)}</dd>
       </dl>
       <section className="rounded-md border border-dashed border-sand-400 bg-white p-4">
-        <h2 className="font-semibold">Data</h2>
+        <h2 className="font-semibold">
+          <Link to={`/projects/${projectId}/data`} className="underline">
+            Data
+          </Link>
+        </h2>
         <p className="mt-1 text-sm text-sediment-600">
-          {mayUpload
-            ? "No datasets yet. Upload a bathymetry grid to begin; sub-bottom picks, survey lines and known sites follow."
-            : "No datasets yet. An analyst or lead of this project uploads the bathymetry grid to begin."}
+          {datasets > 0
+            ? `${datasets} dataset${datasets === 1 ? "" : "s"} of evidence.`
+            : mayUpload
+              ? "No datasets yet. Upload a bathymetry grid to begin; sub-bottom picks, survey lines and known sites follow."
+              : "No datasets yet. An analyst or lead of this project uploads the bathymetry grid to begin."}
         </p>
       </section>
       <Cautions compact />
