@@ -53,7 +53,7 @@ export const PICK_COLUMNS: ColumnSpec[] = [
 
 export const LINE_COLUMNS: ColumnSpec[] = [
   { key: "lineId", names: ["line_id", "line", "line_name"], required: true },
-  { key: "fixId", names: ["fix_id", "fix", "shot", "shotpoint", "sp", "fix_number"] },
+  { key: "fixId", names: ["fix_id", "fix_ids", "fix", "fixes", "shot", "shotpoint", "sp", "fix_number"] },
   { key: "system", names: ["system", "sub_bottom_system", "profiler"] },
   { key: "verticalResolutionM", names: ["vertical_resolution_m", "vertical_resolution", "resolution_m"] },
 ];

@@ -206,6 +206,13 @@ export function findColumns(table: Pick<CsvTable, "keys" | "header" | "headerLin
   return out;
 }
 
+/** Every column matching each spec's names, in name order (for RowReader's alternates). */
+export function alternateColumns(table: Pick<CsvTable, "keys">, specs: ColumnSpec[]): Record<string, number[]> {
+  const out: Record<string, number[]> = {};
+  for (const s of specs) out[s.key] = s.names.map((n) => table.keys.indexOf(n)).filter((i) => i >= 0);
+  return out;
+}
+
 /** Collects problems row by row and throws them together (the first 20 shown). */
 export class Problems {
   private list: { msg: string; where: EvidenceWhere }[] = [];
@@ -251,10 +258,15 @@ export function parseNumber(s: string | undefined, delimiter: Delimiter = ","): 
 export class RowReader {
   fields: string[] = [];
   row = 0;
+  /**
+   * `alternates`: further columns per key tried when the chosen one is empty in a record (vector
+   * attributes, where one feature may say "type" and the next "kind"); see alternateColumns.
+   */
   constructor(
     private readonly table: CsvTable,
     private readonly cols: Record<string, number>,
     private readonly problems: Problems,
+    private readonly alternates?: Record<string, number[]>,
   ) {}
   at(k: number): this {
     this.fields = this.table.records[k];
@@ -281,7 +293,13 @@ export class RowReader {
   }
   str(key: string): string {
     const i = this.cols[key] ?? -1;
-    return i >= 0 ? (this.fields[i] ?? "").trim() : "";
+    const v = i >= 0 ? (this.fields[i] ?? "").trim() : "";
+    if (v !== "" || !this.alternates?.[key]) return v;
+    for (const j of this.alternates[key]) {
+      const w = (this.fields[j] ?? "").trim();
+      if (w !== "") return w;
+    }
+    return "";
   }
   /** A number, or null when empty and not required. Out-of-range and non-numbers are problems (→ null). */
   num(key: string, o: { required?: boolean; min?: number; max?: number; minExclusive?: boolean } = {}): number | null {

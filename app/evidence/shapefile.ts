@@ -48,8 +48,8 @@ function crsFromPrj(prj: string | null, opts: ParseOptions): { crs: SourceCrs; h
 
 function signedArea(ring: number[][]): number {
   let a = 0;
-  for (let i = 0, j = ring.length - 1; i < ring.length; j = i++) a += (ring[j][0] - ring[i][0]) * (ring[j][1] + ring[i][1]);
-  return a / 2; // > 0 clockwise (shoelace with y up)
+  for (let i = 0, j = ring.length - 1; i < ring.length; j = i++) a += (ring[i][0] - ring[j][0]) * (ring[i][1] + ring[j][1]);
+  return a / 2; // Σ (x₂ − x₁)(y₂ + y₁) over edges: > 0 for a clockwise ring (y up)
 }
 
 function inRing(p: number[], ring: number[][]): boolean {

@@ -5,7 +5,7 @@
  * CRS with proj4js (the transformation recorded), and their attributes checked like CSV rows.
  */
 import type { Crs } from "../terrain/crs";
-import { type ColumnSpec, type CsvTable, Problems, RowReader, findColumns, normaliseName, words } from "./csv";
+import { type ColumnSpec, type CsvTable, Problems, RowReader, alternateColumns, findColumns, normaliseName, words } from "./csv";
 import { CONFIDENCE, LINE_COLUMNS, SITE_COLUMNS } from "./columns";
 import { type SourceCrs, WGS84, extentOf, makeTransformer, plausibleIn, projectCrs, sourceFromEpsg } from "./crs-transform";
 import { readGeoPackage } from "./gpkg";
@@ -320,7 +320,7 @@ export async function parseVectorEvidence(kind: EvidenceKind, format: EvidenceFo
   const summary: Record<string, unknown> = { vertices, crsSource: src.crsSource, transformation, layer: src.layer ?? null };
   if (kind === "known_sites") {
     const cols = findColumns(table, SITE_COLUMNS, what);
-    const rr = new RowReader(table, cols, problems);
+    const rr = new RowReader(table, cols, problems, alternateColumns(table, SITE_COLUMNS));
     const defaults = { precision: 0, context: 0 };
     src.features.forEach((f, k) => {
       rr.at(k);
@@ -336,7 +336,7 @@ export async function parseVectorEvidence(kind: EvidenceKind, format: EvidenceFo
     summary.sensitive = true;
   } else if (kind === "survey_lines") {
     const cols = findColumns(table, LINE_COLUMNS, what);
-    const rr = new RowReader(table, cols, problems);
+    const rr = new RowReader(table, cols, problems, alternateColumns(table, LINE_COLUMNS));
     src.features.forEach((f, k) => {
       rr.at(k);
       const lineId = rr.str("lineId");
@@ -358,7 +358,7 @@ export async function parseVectorEvidence(kind: EvidenceKind, format: EvidenceFo
   } else {
     const specs = ATTRIBUTE_COLUMNS[kind] ?? [];
     const cols = findColumns(table, specs, what);
-    const rr = new RowReader(table, cols, problems);
+    const rr = new RowReader(table, cols, problems, alternateColumns(table, specs));
     let noInterpreter = 0;
     src.features.forEach((f, k) => {
       rr.at(k);
