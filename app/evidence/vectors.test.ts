@@ -185,12 +185,14 @@ describe("GeoPackage and zipped Shapefile (fixtures made by GDAL's ogr2ogr)", ()
     expect(t.features!.features.map((f) => f.properties.impactDepthM)).toEqual([35, 32.5, 30]);
   });
 
-  it("refuses a zip without a .shp, a truncated GeoPackage and a GeoPackage for a kind that needs other geometry", async () => {
+  it("refuses a zip without a .shp, a truncated zip, a truncated GeoPackage and a GeoPackage for a kind that needs other geometry", async () => {
     const { zipSync } = await import("fflate");
     const z = zipSync({ "readme.txt": utf8("no shapes here") });
     expect((await refusal(parseEvidence("lease_blocks", z, base({ fileName: "x.zip" })))).message).toMatch(/holds no \.shp file/);
     const cut = evidenceFixture("blocks.gpkg").subarray(0, 5000);
-    expect((await refusal(parseEvidence("lease_blocks", cut, base({ fileName: "x.gpkg" })))).message).toMatch(/GeoPackage|SQLite|damaged/);
+    expect((await refusal(parseEvidence("lease_blocks", cut, base({ fileName: "x.gpkg" })))).message).toMatch(/^the file is not a readable GeoPackage\/SQLite database .*: it may be truncated or damaged$/);
+    const cutZip = evidenceFixture("blocks-shp.zip").subarray(0, 600);
+    expect((await refusal(parseEvidence("lease_blocks", cutZip, base({ fileName: "x.zip" })))).message).toMatch(/^the zip could not be opened .*truncated or damaged/);
     expect((await refusal(parseEvidence("survey_lines", evidenceFixture("blocks.gpkg"), base({ fileName: "x.gpkg" })))).message).toMatch(/feature 1: is a Polygon; survey lines must be LineString or MultiLineString/);
   });
 });
