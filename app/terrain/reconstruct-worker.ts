@@ -71,102 +71,112 @@ type ToWorker = { type: "job"; ageKa: number | null } | { type: "ack" } | { type
  * threads (default: the number of cores, at most the number of jobs).
  */
 export function workerAgeRunner(options: { threads?: number } = {}): AgeRunner {
-  return (ctx, agesKa, emit, control) =>
-    new Promise((resolve, reject) => {
-      const jobs: (number | null)[] = [null, ...agesKa];
-      const threads = Math.max(1, Math.min(options.threads ?? availableParallelism(), jobs.length));
-      const sctx = shareContext(ctx);
-      const cancelFlag = new Int32Array(new SharedArrayBuffer(4));
-      const runTs = fileURLToPath(new URL("../../scripts/run-ts.mjs", import.meta.url));
-      const entry = fileURLToPath(import.meta.url);
-      const workers: Worker[] = [];
-      const inFlight = new Map<Worker, { ageKa: number | null; fraction: number }>();
-      const ages: AgeSummary[] = [];
-      let staticSummary: StaticSummary | null = null;
-      let next = 0;
-      let finished = 0;
-      let failed = false;
-      const report = (step: string) => {
-        let f = finished;
-        for (const j of inFlight.values()) f += j.fraction;
-        control.onProgress?.(f / jobs.length, step);
-      };
-      const fail = (err: Error) => {
-        if (failed) return;
-        failed = true;
-        clearInterval(poll);
+  // the context is copied onto shared memory here, outside the pool's closures, so the caller's
+  // original arrays can be collected while the ages run
+  return (ctx, agesKa, emit, control) => runPool(shareContext(ctx), agesKa, emit, control, options.threads);
+}
+
+function runPool(
+  sctx: AgeContext,
+  agesKa: readonly number[],
+  emit: Parameters<AgeRunner>[2],
+  control: Parameters<AgeRunner>[3],
+  threadsWanted: number | undefined,
+): ReturnType<AgeRunner> {
+  return new Promise((resolve, reject) => {
+    const jobs: (number | null)[] = [null, ...agesKa];
+    const threads = Math.max(1, Math.min(threadsWanted ?? availableParallelism(), jobs.length));
+    const cancelFlag = new Int32Array(new SharedArrayBuffer(4));
+    const runTs = fileURLToPath(new URL("../../scripts/run-ts.mjs", import.meta.url));
+    const entry = fileURLToPath(import.meta.url);
+    const workers: Worker[] = [];
+    const inFlight = new Map<Worker, { ageKa: number | null; fraction: number }>();
+    const ages: AgeSummary[] = [];
+    let staticSummary: StaticSummary | null = null;
+    let next = 0;
+    let finished = 0;
+    let failed = false;
+    const report = (step: string) => {
+      let f = finished;
+      for (const j of inFlight.values()) f += j.fraction;
+      control.onProgress?.(f / jobs.length, step);
+    };
+    const fail = (err: Error) => {
+      if (failed) return;
+      failed = true;
+      clearInterval(poll);
+      Atomics.store(cancelFlag, 0, 1);
+      for (const w of workers) void w.terminate();
+      reject(err);
+    };
+    const poll = setInterval(() => {
+      if (control.shouldCancel?.()) {
         Atomics.store(cancelFlag, 0, 1);
-        for (const w of workers) void w.terminate();
-        reject(err);
-      };
-      const poll = setInterval(() => {
-        if (control.shouldCancel?.()) {
-          Atomics.store(cancelFlag, 0, 1);
-          fail(new TerrainCancelled("reconstruction cancelled"));
-        }
-      }, 100);
-      const give = (w: Worker) => {
-        if (next < jobs.length) {
-          const ageKa = jobs[next++];
-          inFlight.set(w, { ageKa, fraction: 0 });
-          w.postMessage({ type: "job", ageKa } satisfies ToWorker);
-        } else {
-          inFlight.delete(w);
-          w.postMessage({ type: "exit" } satisfies ToWorker);
-        }
-      };
-      // the sink is called for one layer at a time, in arrival order
-      let sinkChain: Promise<void> = Promise.resolve();
-      for (let k = 0; k < threads; k++) {
-        const w = new Worker(runTs, { workerData: { entry, role: ROLE, ctx: sctx, cancelFlag } });
-        workers.push(w);
-        w.on("message", (m: FromWorker) => {
-          if (failed) return;
-          if (m.type === "ready") give(w);
-          else if (m.type === "progress") {
-            if (control.shouldCancel?.()) {
-              fail(new TerrainCancelled("reconstruction cancelled"));
-              return;
-            }
-            const j = inFlight.get(w);
-            if (j) j.fraction = m.fraction;
-            control.onAgeProgress?.(m.ageKa, m.fraction, m.step);
-            report(m.step);
-          } else if (m.type === "layer") {
-            sinkChain = sinkChain
-              .then(() => emit(m.layer))
-              .then(
-                () => {
-                  if (!failed) w.postMessage({ type: "ack" } satisfies ToWorker);
-                },
-                (e: Error) => fail(e),
-              );
-          } else if (m.type === "done") {
-            if (m.ageKa === null) staticSummary = m.summary as StaticSummary;
-            else ages.push(m.summary as AgeSummary);
-            finished++;
-            inFlight.delete(w);
-            report(m.ageKa === null ? "age-independent layers done" : `age ${m.ageKa} ka done`);
-            if (finished === jobs.length) {
-              clearInterval(poll);
-              sinkChain.then(() => {
-                for (const x of workers) x.postMessage({ type: "exit" } satisfies ToWorker);
-                resolve({ ages, static: staticSummary! });
-              }, fail);
-            } else give(w);
-          } else if (m.type === "error") {
-            const E = m.name === "TerrainInputError" ? TerrainInputError : m.name === "TerrainCancelled" ? TerrainCancelled : Error;
-            const err = new E(m.message);
-            if (m.stack && E === Error) err.stack = m.stack;
-            fail(err);
-          }
-        });
-        w.on("error", (e) => fail(e));
-        w.on("exit", (code) => {
-          if (code !== 0 && !failed && finished < jobs.length) fail(new Error(`reconstruction worker stopped with exit code ${code}`));
-        });
+        fail(new TerrainCancelled("reconstruction cancelled"));
       }
-    });
+    }, 100);
+    const give = (w: Worker) => {
+      if (next < jobs.length) {
+        const ageKa = jobs[next++];
+        inFlight.set(w, { ageKa, fraction: 0 });
+        w.postMessage({ type: "job", ageKa } satisfies ToWorker);
+      } else {
+        inFlight.delete(w);
+        w.postMessage({ type: "exit" } satisfies ToWorker);
+      }
+    };
+    // the sink is called for one layer at a time, in arrival order
+    let sinkChain: Promise<void> = Promise.resolve();
+    for (let k = 0; k < threads; k++) {
+      const w = new Worker(runTs, { workerData: { entry, role: ROLE, ctx: sctx, cancelFlag } });
+      workers.push(w);
+      w.on("message", (m: FromWorker) => {
+        if (failed) return;
+        if (m.type === "ready") give(w);
+        else if (m.type === "progress") {
+          if (control.shouldCancel?.()) {
+            fail(new TerrainCancelled("reconstruction cancelled"));
+            return;
+          }
+          const j = inFlight.get(w);
+          if (j) j.fraction = m.fraction;
+          control.onAgeProgress?.(m.ageKa, m.fraction, m.step);
+          report(m.step);
+        } else if (m.type === "layer") {
+          sinkChain = sinkChain
+            .then(() => emit(m.layer))
+            .then(
+              () => {
+                if (!failed) w.postMessage({ type: "ack" } satisfies ToWorker);
+              },
+              (e: Error) => fail(e),
+            );
+        } else if (m.type === "done") {
+          if (m.ageKa === null) staticSummary = m.summary as StaticSummary;
+          else ages.push(m.summary as AgeSummary);
+          finished++;
+          inFlight.delete(w);
+          report(m.ageKa === null ? "age-independent layers done" : `age ${m.ageKa} ka done`);
+          if (finished === jobs.length) {
+            clearInterval(poll);
+            sinkChain.then(() => {
+              for (const x of workers) x.postMessage({ type: "exit" } satisfies ToWorker);
+              resolve({ ages, static: staticSummary! });
+            }, fail);
+          } else give(w);
+        } else if (m.type === "error") {
+          const E = m.name === "TerrainInputError" ? TerrainInputError : m.name === "TerrainCancelled" ? TerrainCancelled : Error;
+          const err = new E(m.message);
+          if (m.stack && E === Error) err.stack = m.stack;
+          fail(err);
+        }
+      });
+      w.on("error", (e) => fail(e));
+      w.on("exit", (code) => {
+        if (code !== 0 && !failed && finished < jobs.length) fail(new Error(`reconstruction worker stopped with exit code ${code}`));
+      });
+    }
+  });
 }
 
 // ---- worker side ---------------------------------------------------------------------------------

@@ -542,9 +542,11 @@ export async function reconstruct(input: ReconstructInput, options: ReconstructO
   const staticT: Record<string, number> = {};
   let t0 = performance.now();
   control.onProgress?.(0, "analysis surface");
-  const as = analysisSurface(seabed, input.horizon?.result.elevationM);
-  const surfaceGrid = as.surface;
-  await sink(out("analysis_surface", null, "float32", "m", "NaN", surfaceGrid.data.slice()));
+  // the big arrays are held only by `ctx` once the ages start (see below), so a runner that copies
+  // them (onto shared memory) lets the originals go
+  let as: ReturnType<typeof analysisSurface> | null = analysisSurface(seabed, input.horizon?.result.elevationM);
+  const { horizonCells, seabedCells } = as;
+  await sink(out("analysis_surface", null, "float32", "m", "NaN", as.surface.data.slice()));
   await sink(out("surface_source", null, "uint8", "class", SURFACE_NODATA, as.source));
   if (input.horizon) {
     const hz = input.horizon.result;
@@ -563,14 +565,15 @@ export async function reconstruct(input: ReconstructInput, options: ReconstructO
   t0 = performance.now();
   checkCancel(control, "spill elevation");
   const boundaryMask = oceanBoundaryMask(spec, seabed.nodata, input.oceanBoundary);
-  const spill = spillElevation(surfaceGrid, boundaryMask, {
+  let spill: SpillResult | null = spillElevation(as.surface, boundaryMask, {
     shouldCancel: control.shouldCancel,
     onProgress: (f, s) => control.onProgress?.(0.02 + 0.08 * f, s),
   });
   staticT["spill elevation"] = performance.now() - t0;
-  const ctx: AgeContext = {
+  const unreachableCells = spill.unreachableCount;
+  let ctx: AgeContext | null = {
     spec,
-    surface: surfaceGrid.data,
+    surface: as.surface.data,
     nodata: seabed.nodata,
     spillM: spill.spillM,
     basinLabel: spill.basinLabel,
@@ -587,15 +590,19 @@ export async function reconstruct(input: ReconstructInput, options: ReconstructO
     tpiRadiusM,
     flooding: { windowKa: [young, old], coastBandM },
   };
+  as = null;
+  spill = null;
   const runner = options.runAges ?? inlineAgeRunner;
-  const res = await runner(ctx, agesSorted, sink, {
+  const running = runner(ctx, agesSorted, sink, {
     shouldCancel: control.shouldCancel,
     onProgress: (f, s) => control.onProgress?.(0.1 + 0.9 * f, s),
   });
+  ctx = null;
+  const res = await running;
   const notes = modelNotes(input.seaLevel);
   const warnings = [...notes.warnings];
-  if (spill.unreachableCount > 0) warnings.push(`${spill.unreachableCount} cells can never be reached by the sea (cut off by nodata): they stay land or lake at every age`);
-  if (input.horizon && as.seabedCells > 0) {
+  if (unreachableCells > 0) warnings.push(`${unreachableCells} cells can never be reached by the sea (cut off by nodata): they stay land or lake at every age`);
+  if (input.horizon && seabedCells > 0) {
     warnings.push("the analysis surface switches from the horizon to the seabed where the horizon is unassessed; expect a step at that edge");
   }
   const ageOrder = new Map(agesSorted.map((a, i) => [a, i]));
@@ -614,12 +621,12 @@ export async function reconstruct(input: ReconstructInput, options: ReconstructO
       epsg: spec.crs?.epsg ?? null,
     },
     analysisSurface: {
-      kind: input.horizon && as.horizonCells > 0 ? "horizon" : "seabed",
+      kind: input.horizon && horizonCells > 0 ? "horizon" : "seabed",
       horizonName: input.horizon?.name ?? null,
-      horizonCells: as.horizonCells,
-      seabedCells: as.seabedCells,
+      horizonCells,
+      seabedCells,
       note: input.horizon
-        ? `buried horizon "${input.horizon.name}" on ${as.horizonCells} cells, today's seabed on the other ${as.seabedCells} (horizon unassessed there); see the surface_source layer`
+        ? `buried horizon "${input.horizon.name}" on ${horizonCells} cells, today's seabed on the other ${seabedCells} (horizon unassessed there); see the surface_source layer`
         : "today's seabed: no buried horizon was given, so drainage follows the modern seabed (sandwaves, scour and dredged trenches included)",
     },
     seaLevel: { label: notes.label, citations: notes.citations, warnings: notes.warnings, rangeKa: [young, old] },
@@ -634,7 +641,7 @@ export async function reconstruct(input: ReconstructInput, options: ReconstructO
       floodingWindowKa: [young, old],
     },
     connectivity: "sea and lakes spread 4-connected (a one-cell diagonal barrier holds water back); flow routing is 8-connected (D8)",
-    unreachableCells: spill.unreachableCount,
+    unreachableCells,
     layers,
     ages: res.ages,
     staticTimingsMs: { ...staticT, ...res.static.timingsMs },
