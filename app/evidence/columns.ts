@@ -49,6 +49,7 @@ export const PICK_COLUMNS: ColumnSpec[] = [
   { key: "depthBelowSeabedM", names: ["depth_below_seabed_m", "depth_m", "depth_bsb_m", "depth_below_seabed", "depth"] },
   { key: "twtMs", names: ["twt_ms", "twt", "twt_below_seabed_ms"] },
   { key: "velocityMps", names: ["velocity_m_s", "velocity_mps", "velocity", "v_m_s"] },
+  { key: "horizon", names: ["horizon", "horizon_name", "surface"] },
 ];
 
 export const LINE_COLUMNS: ColumnSpec[] = [

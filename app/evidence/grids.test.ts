@@ -62,6 +62,10 @@ describe("bathymetry from GeoTIFF", () => {
   it("refuses an upload without a vertical declaration", async () => {
     const e = await refusal(parseEvidence("bathymetry", tiff(gridSpec(3, 3), new Float32Array(9).fill(20)), opts({ vertical: undefined })));
     expect(e.message).toMatch(/must declare its vertical datum and sign/);
+    const s = await refusal(parseEvidence("bathymetry", tiff(gridSpec(3, 3), new Float32Array(9).fill(20)), opts({ vertical: { sign: "depth_positive_down", datum: "seabed", offsetToMslM: 0 } })));
+    expect(s.message).toMatch(/"seabed" is a vertical reference only for a horizon grid/);
+    const n = await refusal(parseEvidence("bathymetry", tiff(gridSpec(3, 3), new Float32Array(9).fill(20)), opts({ vertical: { sign: "depth_positive_down", datum: "LAT", offsetToMslM: Number.NaN } })));
+    expect(n.message).toMatch(/offset to present mean sea level must be a number of metres/);
   });
 
   it("warns when the declared sign or datum offset look the wrong way round", async () => {

@@ -83,6 +83,9 @@ export function checkVertical(v: VerticalDeclaration | undefined, kind: string, 
   }
   if (!v.datum || String(v.datum).trim() === "") throw new EvidenceError("name the vertical datum (e.g. LAT, chart datum, MSL, ellipsoid)");
   const d = v.datum.toLowerCase();
+  if (d.trim() === "seabed" && kind !== "horizon grid") {
+    throw new EvidenceError(`"seabed" is a vertical reference only for a horizon grid given as depth below the seabed; declare the ${kind}'s datum (e.g. LAT, MSL)`);
+  }
   if (/^(msl|mean sea level)$/.test(d) && v.offsetToMslM !== 0) {
     warnings.push(`the datum is mean sea level but its offset to MSL is declared as ${v.offsetToMslM} m: check the offset (it is applied)`);
   }

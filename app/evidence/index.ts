@@ -51,8 +51,12 @@ export async function parseEvidence(kind: EvidenceKind, bytes: Uint8Array, opts:
   if (!EVIDENCE_KINDS.includes(kind)) throw new EvidenceError(`"${kind}" is not a kind of evidence Lowstand takes`);
   if (bytes.length === 0) throw new EvidenceError("the file is empty (0 bytes)", { byte: 0 });
   const limits = resolveLimits(opts.limits);
-  const format = sniffFormat(bytes.subarray(0, 8192), opts.fileName);
+  const sniffed = sniffFormat(bytes.subarray(0, 8192), opts.fileName);
   const allowed = KIND_FORMATS[kind];
+  let format = sniffed;
+  // a headerless table of numbers sniffs as XYZ; for a kind that takes CSV only, read it as CSV so the
+  // message is about its missing header, not about XYZ
+  if (format === "xyz" && !allowed.includes("xyz") && allowed.includes("csv")) format = "csv";
   if (format === null) {
     const claimed = /\.(tif|tiff)$/i.test(opts.fileName) ? " although its name ends .tif" : "";
     throw new EvidenceError(`${describeUnknown(bytes.subarray(0, 16))}${claimed}: a ${kind.replace(/_/g, " ")} upload must be ${allowed.map((f) => FORMAT_NAMES[f]).join(", ")}`, { byte: 0 });

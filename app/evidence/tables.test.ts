@@ -81,8 +81,9 @@ describe("horizon picks CSV", () => {
   });
 
   it("takes depths directly and refuses both or neither measure, negative depths and picks outside the grid", async () => {
-    const ok = await parseEvidence("horizon_picks", utf8("LINE,Easting,Northing,Depth_m\nA,496000,6675000,1.8\n"), base());
-    expect(ok.rows![0]).toMatchObject({ lineId: "A", depthBelowSeabedM: 1.8, twtMs: null });
+    const ok = await parseEvidence("horizon_picks", utf8("LINE,Easting,Northing,Depth_m,Horizon\nA,496000,6675000,1.8,transgressive surface\n"), base());
+    expect(ok.rows![0]).toMatchObject({ lineId: "A", depthBelowSeabedM: 1.8, twtMs: null, horizon: "transgressive surface" });
+    expect(ok.summary.horizons).toEqual(["transgressive surface"]);
     expect((await refusal(parseEvidence("horizon_picks", utf8("line,x,y,depth_m,twt_ms\nA,1,2,3,4\n"), base()))).message).toMatch(/has both/);
     expect((await refusal(parseEvidence("horizon_picks", utf8("line,x,y,amp\nA,1,2,3\n"), base()))).message).toMatch(/needs either "depth_below_seabed_m".*or "twt_ms"/);
     const e = await refusal(parseEvidence("horizon_picks", utf8("line,x,y,depth_m\nA,496000,6675000,-1\nA,599000,6675000,2\n"), base({ withinExtent: [495000, 6670000, 510000, 6681000] })));
@@ -137,6 +138,8 @@ describe("sea-level curve and index points", () => {
     expect(d.message).toMatch(/decrease all the way down the file: sort the rows from the present/);
     expect((await refusal(parseEvidence("sea_level_curve", utf8("age_ka,rsl_m\n0,0\n"), base()))).message).toMatch(/at least two rows/);
     expect((await refusal(parseEvidence("sea_level_curve", utf8("age_ka,rsl_m\n0,zero\n1,-1\n"), base()))).message).toMatch(/row 2: rsl_m is 'zero', not a number/);
+    // a headerless table of numbers is read as a CSV lacking its header, not as XYZ points
+    expect((await refusal(parseEvidence("sea_level_curve", utf8("0,0,0.5\n5,-8,1\n"), base()))).message).toMatch(/lacks the column "rsl_m"/);
   });
   it("reads index points with their kinds and σ, applying a vertical declaration when given", async () => {
     const csv = "id,age_ka,age_sigma_ka,height_m,height_sigma_m,kind,lab_code\nIP1,9.1,0.1,-25.0,0.5,index point,XX-1001\nIP2,10.2,0.15,-31,1,terrestrial,\nIP3,8.0,0.1,-20,0.8,Marine limiting,\n";

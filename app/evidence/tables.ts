@@ -179,6 +179,7 @@ function horizonPicks(table: CsvTable, opts: ParseOptions, project: Crs, warning
   const rr = new RowReader(table, cols, problems);
   const rows: Record<string, unknown>[] = [];
   const perLine = new Map<string, number>();
+  const horizons = new Set<string>();
   let defaultVelocity = 0;
   for (let k = 0; k < table.records.length; k++) {
     rr.at(k);
@@ -198,7 +199,9 @@ function horizonPicks(table: CsvTable, opts: ParseOptions, project: Crs, warning
       }
       depth = twt !== null && velocity !== null ? twtToThicknessM(twt, velocity) : null;
     }
-    rows.push({ lineId, fixId: rr.str("fixId") || null, x: pos.x[k], y: pos.y[k], depthBelowSeabedM: depth, twtMs: twt, velocityMps: velocity, sourceRow: rr.row });
+    const horizon = rr.str("horizon");
+    if (horizon) horizons.add(horizon);
+    rows.push({ lineId, fixId: rr.str("fixId") || null, x: pos.x[k], y: pos.y[k], depthBelowSeabedM: depth, twtMs: twt, velocityMps: velocity, horizon: horizon || null, sourceRow: rr.row });
   }
   problems.throwIfAny();
   if (defaultVelocity) warnings.push(`${defaultVelocity} picks in two-way time have no velocity: ${DEFAULT_SEDIMENT_VELOCITY_MPS} m/s was used (a common default for unconsolidated shelf sediment)`);
@@ -208,6 +211,7 @@ function horizonPicks(table: CsvTable, opts: ParseOptions, project: Crs, warning
     extent: extentOf(pos.x, pos.y),
     summary: {
       measure: hasDepth ? "depth_below_seabed_m" : "twt_ms",
+      horizons: [...horizons],
       lines: perLine.size,
       picksPerLine: { min: Math.min(...counts), max: Math.max(...counts) },
       defaultVelocityMps: hasTwt ? DEFAULT_SEDIMENT_VELOCITY_MPS : null,
