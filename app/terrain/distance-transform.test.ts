@@ -1,6 +1,6 @@
 import { describe, expect, it } from "vitest";
 import { euclideanDistance, squaredDistance1D } from "./distance-transform.ts";
-import { mulberry32 } from "../../fixtures/terrain2/seeded-random.ts";
+import { prng } from "./test-utils.ts";
 
 function bruteForce(features: Uint8Array, w: number, h: number, dx: number, dy: number): Float64Array {
   const out = new Float64Array(w * h).fill(Infinity);
@@ -71,7 +71,7 @@ describe("euclideanDistance", () => {
   });
 
   it("equals brute force over all feature cells on random grids", () => {
-    const rnd = mulberry32(20120901);
+    const rnd = prng(20120901);
     for (let trial = 0; trial < 40; trial++) {
       const w = 1 + Math.floor(rnd() * 40);
       const h = 1 + Math.floor(rnd() * 40);

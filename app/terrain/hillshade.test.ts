@@ -1,6 +1,6 @@
 import { describe, expect, it } from "vitest";
 import { hillshade } from "./hillshade.ts";
-import { mulberry32 } from "../../fixtures/terrain2/seeded-random.ts";
+import { prng } from "./test-utils.ts";
 import { gdaldem } from "../../fixtures/terrain2/gdal-raw.ts";
 
 describe("hillshade", () => {
@@ -34,7 +34,7 @@ describe("hillshade", () => {
   });
 
   it("agrees with gdaldem hillshade within one grey level on interior cells", () => {
-    const rnd = mulberry32(315);
+    const rnd = prng(315);
     const w = 40, h = 30, d = 25;
     const z = new Float32Array(w * h);
     for (let r = 0; r < h; r++) for (let c = 0; c < w; c++) z[r * w + c] = 30 * Math.sin(c / 6) * Math.cos(r / 5) + rnd() * 3;

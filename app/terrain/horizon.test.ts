@@ -1,7 +1,7 @@
 import { describe, expect, it } from "vitest";
 import { delaunayTriangles, gridHorizon, parsePicksCsv, twtToThicknessM, type HorizonPicks } from "./horizon.ts";
 import { TerrainCancelled, TerrainInputError, type GridSpec } from "./grid.ts";
-import { mulberry32 } from "../../fixtures/terrain2/seeded-random.ts";
+import { prng } from "./test-utils.ts";
 
 const spec = (w: number, h: number, dx: number, dy = dx): GridSpec => ({
   width: w, height: h, originX: 400000, originY: 7000000, cellSizeX: dx, cellSizeY: dy, crs: null,
@@ -37,7 +37,7 @@ describe("twtToThicknessM", () => {
 
 describe("delaunayTriangles", () => {
   it("leaves every circumcircle empty on random points (brute-force check)", () => {
-    const rnd = mulberry32(1934);
+    const rnd = prng(1934);
     for (const m of [3, 10, 200]) {
       const X: number[] = [], Y: number[] = [];
       for (let i = 0; i < m; i++) { X.push(rnd() * 1000); Y.push(rnd() * 700); }

@@ -5,7 +5,7 @@ import { TerrainCancelled, TerrainInputError, makeElevationGrid, type GridSpec }
 import { defaultGlobalCurve, seaLevelAt } from "./sea-level.ts";
 import { CLASS_LAND, CLASS_SEA } from "./flooding.ts";
 import { gridHorizon } from "./horizon.ts";
-import { mulberry32 } from "../../fixtures/terrain2/seeded-random.ts";
+import { prng } from "./test-utils.ts";
 
 const W = 72;
 const H = 48;
@@ -13,7 +13,7 @@ const spec: GridSpec = { width: W, height: H, originX: 600000, originY: 5400000,
 
 /** a small shelf: +25 m in the west to −160 m in the east, a valley, a closed hollow, a nodata corner */
 function shelf() {
-  const rnd = mulberry32(42);
+  const rnd = prng(42);
   const z = new Float32Array(W * H);
   for (let r = 0; r < H; r++)
     for (let c = 0; c < W; c++) {

@@ -1,6 +1,6 @@
 import { describe, expect, it } from "vitest";
 import { aspectFromGradient, slopeAspect } from "./slope-aspect.ts";
-import { mulberry32 } from "../../fixtures/terrain2/seeded-random.ts";
+import { prng } from "./test-utils.ts";
 import { gdaldem } from "../../fixtures/terrain2/gdal-raw.ts";
 
 function plane(w: number, h: number, dx: number, dy: number, fallEast: number, fallSouth: number): Float32Array {
@@ -11,7 +11,7 @@ function plane(w: number, h: number, dx: number, dy: number, fallEast: number, f
 
 /** a smooth random surface with a flat shelf in one corner (seeded) */
 function testSurface(w: number, h: number, dx: number, dy: number, seed: number): Float32Array {
-  const rnd = mulberry32(seed);
+  const rnd = prng(seed);
   const waves = Array.from({ length: 6 }, () => ({ a: 2 + rnd() * 20, kx: rnd() * 0.02, ky: rnd() * 0.02, p: rnd() * 6.28 }));
   const z = new Float32Array(w * h);
   for (let r = 0; r < h; r++)

@@ -1,7 +1,7 @@
 import { describe, expect, it } from "vitest";
 import { distanceToNearestLine, parseSurveyLinesCsv, parseSurveyLinesGeoJson, rasteriseLines } from "./survey-lines.ts";
 import { TerrainInputError, type GridSpec } from "./grid.ts";
-import { mulberry32 } from "../../fixtures/terrain2/seeded-random.ts";
+import { prng } from "./test-utils.ts";
 
 const spec: GridSpec = { width: 20, height: 10, originX: 1000, originY: 5000, cellSizeX: 10, cellSizeY: 5, crs: null };
 
@@ -21,7 +21,7 @@ describe("rasteriseLines", () => {
   });
 
   it("marks every cell a random segment passes through (checked by fine sampling)", () => {
-    const rnd = mulberry32(1987);
+    const rnd = prng(1987);
     for (let k = 0; k < 30; k++) {
       const x0 = 1000 + rnd() * 200, y0 = 4950 + rnd() * 50, x1 = 1000 + rnd() * 200, y1 = 4950 + rnd() * 50;
       const m = rasteriseLines([{ id: "R", x: [x0, x1], y: [y0, y1] }], spec);

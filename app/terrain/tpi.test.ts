@@ -1,6 +1,6 @@
 import { describe, expect, it } from "vitest";
 import { topographicPositionIndex } from "./tpi.ts";
-import { mulberry32 } from "../../fixtures/terrain2/seeded-random.ts";
+import { prng } from "./test-utils.ts";
 
 /** brute-force mean over the clipped rectangular window, centre excluded */
 function bruteTpi(z: Float32Array, w: number, h: number, hx: number, hy: number): Float64Array {
@@ -45,7 +45,7 @@ describe("topographicPositionIndex", () => {
   });
 
   it("equals a brute-force window mean on random grids with nodata and non-square cells", () => {
-    const rnd = mulberry32(1999);
+    const rnd = prng(1999);
     for (let trial = 0; trial < 12; trial++) {
       const w = 3 + Math.floor(rnd() * 30);
       const h = 3 + Math.floor(rnd() * 30);

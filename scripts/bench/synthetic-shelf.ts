@@ -2,10 +2,10 @@
  * A deterministic synthetic continental shelf for benchmarks and demos: a coastal plain in the west
  * falling to a shelf break and slope in the east (the open ocean), two wave-cut terraces, meandering
  * drowned valleys running seawards, a few closed basins, and fractal value noise. Everything comes
- * from one integer seed (mulberry32), so the same size and seed give the same grid on any machine.
+ * from one integer seed (mulberry32, `prng`), so the same size and seed give the same grid on any machine.
  * Invented terrain: it imitates no real place.
  */
-import { mulberry32 } from "../../fixtures/terrain2/seeded-random.ts";
+import { prng } from "../../app/terrain/test-utils.ts"; // mulberry32, the terrain tests' seeded PRNG
 import { resolveCrs } from "../../app/terrain/crs.ts";
 import type { Grid, GridSpec } from "../../app/terrain/grid.ts";
 
@@ -29,7 +29,7 @@ function smooth(t: number): number {
  * Float32Array of size² plus small lattices for the noise.
  */
 export function syntheticShelf(size: number, seed = 20260, cellSizeM = 25): SyntheticShelf {
-  const rnd = mulberry32(seed);
+  const rnd = prng(seed);
   const w = size;
   const h = size;
   const z = new Float32Array(w * h);
