@@ -78,6 +78,7 @@ export function makeTransformer(src: SourceCrs, dst: Crs): Transformer {
     one,
     run(xs, ys) {
       for (let i = 0; i < xs.length; i++) {
+        if (!Number.isFinite(xs[i]) || !Number.isFinite(ys[i])) continue; // a bad row, already reported
         const r = one(xs[i], ys[i]);
         xs[i] = r[0];
         ys[i] = r[1];
