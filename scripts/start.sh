@@ -37,4 +37,18 @@ export NODE_ENV=production
 if [ -z "${SMTP_URL:-}" ]; then
   export SMTP_PORT="${SMTP_PORT:-2525}" LOWSTAND_MAIL_CATCHER_PORT="${SMTP_PORT:-2525}" LOWSTAND_DEV_OUTBOX=1
 fi
-exec node server.mjs
+# One job worker beside the server (`npm run worker` starts more, here or on other machines with the
+# same DATABASE_URL and storage settings); it stops when the server stops.
+node scripts/run-ts.mjs jobs/worker.ts &
+worker_pid=$!
+node server.mjs &
+server_pid=$!
+stop_both() { kill -TERM "$server_pid" "$worker_pid" 2>/dev/null || true; }
+trap stop_both INT TERM
+status=0
+wait "$server_pid" || status=$?
+stop_both
+# A signal interrupts `wait`: wait again for the server's own exit status.
+if [ "$status" -gt 128 ]; then status=0; wait "$server_pid" || status=$?; fi
+wait "$worker_pid" || true
+exit "$status"

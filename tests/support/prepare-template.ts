@@ -24,3 +24,9 @@ execFileSync(process.execPath, [path.resolve(import.meta.dirname, "../../scripts
   stdio: "inherit",
   cwd: path.resolve(import.meta.dirname, "../.."),
 });
+// pg-boss keeps its queue in schema "pgboss", which it creates on first start: do it once here, so
+// every cloned test database has it (workers and the app would otherwise each install it).
+const { default: PgBoss } = await import("pg-boss");
+const queueBoss = new PgBoss({ connectionString: clusterUrl(TEMPLATE_DB), max: 1, supervise: false, schedule: false });
+await queueBoss.start();
+await queueBoss.stop({ graceful: false, wait: true });

@@ -1,0 +1,12 @@
+// Every job kind the workers run: kind → definition. Each kind is also a queue in
+// PRODUCT_QUEUES (jobs/boss.server.ts): the worker refuses a kind without a queue and warns
+// about a queue without a kind (its jobs wait for a worker that has it).
+import { testJobsEnabled } from "./boss.server";
+import { testSleepJob } from "./test-sleep";
+import type { JobDefinition } from "./wrapper";
+
+export const JOB_REGISTRY: Record<string, JobDefinition<any>> = {
+  // reconstruction: added with the reconstruction job (issue 7).
+};
+
+if (testJobsEnabled()) JOB_REGISTRY[testSleepJob.kind] = testSleepJob;
