@@ -18,8 +18,7 @@ import { nodeDeflate } from "../app/terrain/geotiff-deflate-node.ts";
 import { toElevationMsl } from "../app/terrain/vertical-datum.ts";
 import { defaultGlobalCurve, parseSeaLevelCsv, type SeaLevelModel } from "../app/terrain/sea-level.ts";
 import { gridHorizon, parsePicksCsv, type HorizonResult } from "../app/terrain/horizon.ts";
-import { rasterizeChannels } from "../app/terrain/burn-in.ts";
-import { type SurveyLine, parseSurveyLinesCsv, parseSurveyLinesGeoJson } from "../app/terrain/survey-lines.ts";
+import { type SurveyLine, parseSurveyLinesCsv, parseSurveyLinesGeoJson, rasteriseLines } from "../app/terrain/survey-lines.ts";
 import { type LayerOut, type ReconstructInput, reconstruct, inlineAgeRunner } from "../app/terrain/reconstruct.ts";
 import { workerAgeRunner } from "../app/terrain/reconstruct-worker.ts";
 import type { Side } from "../app/terrain/flooding.ts";
@@ -93,24 +92,6 @@ function readFile(file: string, what: string): Buffer {
 
 function layerFileName(l: { name: string; ageKa: number | null }): string {
   return l.ageKa === null ? `${l.name}.tif` : `${l.name}_${String(l.ageKa).replace(".", "p")}ka.tif`;
-}
-
-function channelsFromGeoJson(text: string): [number, number][][] {
-  let gj: { type?: string; features?: { geometry?: { type: string; coordinates: unknown } }[]; coordinates?: unknown };
-  try {
-    gj = JSON.parse(text);
-  } catch (e) {
-    throw new TerrainInputError(`channels: not valid JSON (${(e as Error).message})`);
-  }
-  const geoms = gj.type === "FeatureCollection" ? (gj.features ?? []).map((f) => f.geometry) : [gj as { type: string; coordinates: unknown }];
-  const lines: [number, number][][] = [];
-  geoms.forEach((g, k) => {
-    if (!g) return;
-    if (g.type === "LineString") lines.push(g.coordinates as [number, number][]);
-    else if (g.type === "MultiLineString") lines.push(...(g.coordinates as [number, number][][]));
-    else throw new TerrainInputError(`channels: feature ${k + 1} is a ${g.type}; give LineStrings`);
-  });
-  return lines;
 }
 
 async function main(): Promise<number> {
@@ -208,7 +189,7 @@ async function main(): Promise<number> {
   for (const s of sides) if (!["east", "west", "north", "south"].includes(s)) throw new TerrainInputError(`--ocean-side: "${s}" is not east, west, north or south`);
 
   let palaeochannels: Uint8Array | undefined;
-  if (a.channels) palaeochannels = rasterizeChannels(spec, channelsFromGeoJson(readFile(str(a, "channels")!, "--channels").toString("utf8")));
+  if (a.channels) palaeochannels = rasteriseLines(parseSurveyLinesGeoJson(readFile(str(a, "channels")!, "--channels").toString("utf8"), "channels"), spec);
 
   let surveyLines: SurveyLine[] | undefined;
   if (a.lines) {

@@ -143,16 +143,17 @@ export function parseSurveyLinesCsv(text: string): SurveyLine[] {
 }
 
 /**
- * Survey lines from GeoJSON text (RFC 7946 structure, coordinates already in the project CRS):
- * LineString or MultiLineString features; the line id is the feature's `line` or `id` property, else
- * its position. Throws TerrainInputError for other geometry types or malformed JSON. O(fixes).
+ * Lines from GeoJSON text (RFC 7946 structure, coordinates already in the project CRS): LineString or
+ * MultiLineString features; the line id is the feature's `line` or `id` property, else its position.
+ * Used for survey lines and for mapped palaeochannel centre-lines (`what` names them in errors).
+ * Throws TerrainInputError for other geometry types or malformed JSON. O(fixes).
  */
-export function parseSurveyLinesGeoJson(text: string): SurveyLine[] {
+export function parseSurveyLinesGeoJson(text: string, what = "survey lines"): SurveyLine[] {
   let gj: { type?: string; features?: { id?: string | number; properties?: Record<string, unknown> | null; geometry?: { type: string; coordinates: unknown } | null }[] };
   try {
     gj = JSON.parse(text);
   } catch (e) {
-    throw new TerrainInputError(`survey lines: not valid JSON (${(e as Error).message})`);
+    throw new TerrainInputError(`${what}: not valid JSON (${(e as Error).message})`);
   }
   const features = gj.type === "FeatureCollection" ? (gj.features ?? []) : [{ geometry: gj as { type: string; coordinates: unknown } }];
   const out: SurveyLine[] = [];
@@ -161,7 +162,7 @@ export function parseSurveyLinesGeoJson(text: string): SurveyLine[] {
     if (!g) return;
     const id = String(f.properties?.line ?? f.properties?.id ?? f.id ?? k + 1);
     const parts = g.type === "LineString" ? [g.coordinates as number[][]] : g.type === "MultiLineString" ? (g.coordinates as number[][][]) : null;
-    if (!parts) throw new TerrainInputError(`survey lines: feature ${k + 1} (${id}) is a ${g.type}; give LineStrings`);
+    if (!parts) throw new TerrainInputError(`${what}: feature ${k + 1} (${id}) is a ${g.type}; give LineStrings`);
     parts.forEach((c, j) => out.push({ id: parts.length > 1 ? `${id}#${j + 1}` : id, x: c.map((p) => p[0]), y: c.map((p) => p[1]) }));
   });
   return out;
