@@ -46,7 +46,7 @@ describe("geotiffHeaderCheck — the first IFD only, before any pixel is decoded
     // cut inside the IFD
     let err: unknown;
     try {
-      geotiffHeaderCheck(full.subarray(0, 40));
+      geotiffHeaderCheck(full.subarray(0, 40), undefined, 40);
     } catch (e) {
       err = e;
     }
@@ -56,13 +56,24 @@ describe("geotiffHeaderCheck — the first IFD only, before any pixel is decoded
     // IFD offset beyond the end
     const bad = full.slice(0, 8);
     new DataView(bad.buffer).setUint32(4, 5000, true);
-    expect(() => geotiffHeaderCheck(bad)).toThrow(/byte 5000 but the file ends at byte 8/);
+    expect(() => geotiffHeaderCheck(bad, undefined, 8)).toThrow(/byte 5000 but the file ends at byte 8/);
     expect(() => geotiffHeaderCheck(Uint8Array.of(0xff, 0xd8, 0xff, 0xe0, 1, 2, 3, 4, 5))).toThrow(/not a GeoTIFF/);
   });
 
   it("asks for more bytes (a plain Error, not the user's fault) when only the head was passed and the IFD lies beyond it", () => {
     const t = bareTiff({ [WIDTH]: 10, [HEIGHT]: 10 });
-    expect(() => geotiffHeaderCheck(t.subarray(0, 12), undefined, 10_000)).toThrow(Error);
-    expect(() => geotiffHeaderCheck(t.subarray(0, 12), undefined, 10_000)).not.toThrow(EvidenceError);
+    const plain = (f: () => unknown) => {
+      try {
+        f();
+      } catch (e) {
+        return e instanceof Error && !(e instanceof EvidenceError) ? (e as Error).message : "an EvidenceError";
+      }
+      return "nothing thrown";
+    };
+    expect(plain(() => geotiffHeaderCheck(t.subarray(0, 12), undefined, 10_000))).toMatch(/^geotiffHeaderCheck: the first IFD ends at byte \d+; pass at least that many bytes/);
+    // without the file size, an IFD beyond the head is never called a truncation
+    expect(plain(() => geotiffHeaderCheck(t.subarray(0, 12)))).toMatch(/pass/);
+    // but with it, the same bytes as a whole file are truncated
+    expect(() => geotiffHeaderCheck(t.subarray(0, 12), undefined, 12)).toThrow(EvidenceError);
   });
 });

@@ -46,7 +46,8 @@ function sci(n: number): string {
 /**
  * Reads only the first IFD of a TIFF/BigTIFF. `head` is the whole file or its first bytes (enough to
  * hold the first IFD — GDAL and most writers put it right after the 8- or 16-byte header);
- * `fileSize` is the whole file's size when `head` is only its start.
+ * `fileSize` is the whole file's size: always pass it, so that a file cut short is told apart from a
+ * head too short to hold the IFD (without it, an IFD beyond `head` is never called a truncation).
  *
  * Throws EvidenceError (with the byte where known) for: too short or not a TIFF; an IFD offset past
  * the end of the file (truncated); a directory cut short; no width/height; more than one band; a
@@ -57,7 +58,7 @@ function sci(n: number): string {
 export function geotiffHeaderCheck(
   head: Uint8Array,
   limits: Pick<EvidenceLimits, "maxCells"> = DEFAULT_LIMITS,
-  fileSize: number = head.length,
+  fileSize: number = Number.POSITIVE_INFINITY,
 ): GeoTiffHeader {
   if (head.length < 8) {
     throw new EvidenceError(`the file is ${head.length} bytes long: too short to be a GeoTIFF (truncated?)`, { byte: head.length });

@@ -193,6 +193,12 @@ describe("bathymetry from XYZ points, gridded on import", () => {
     expect((await refusal(parseEvidence("bathymetry", utf8(text), opts({ fileName: "p.xyz", declaredEpsg: PROJECT_EPSG, analysisCellSizeM: 0.01 })))).message).toMatch(/over the limit of 6\.7e7: choose a coarser cell size/);
   });
 
+  it("caps the number of points", async () => {
+    const text = Array.from({ length: 10 }, (_, i) => `${495000 + i * 10} 6680000 ${i}`).join("\n");
+    const e = await refusal(parseEvidence("bathymetry", utf8(text), opts({ fileName: "p.xyz", declaredEpsg: PROJECT_EPSG, analysisCellSizeM: 10, limits: { maxRows: 9 } })));
+    expect(e.message).toMatch(/more than 9 points, over the limit/);
+  });
+
   it("grids two million points: every point lands in one cell and each cell's mean is right", async () => {
     const n = 2_000_000;
     const r = prng(5);

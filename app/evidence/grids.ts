@@ -129,7 +129,7 @@ export async function parseGridEvidence(
   let nonFiniteCount = 0;
 
   if (format === "geotiff") {
-    const header = geotiffHeaderCheck(bytes, limits);
+    const header = geotiffHeaderCheck(bytes, limits, bytes.length);
     let r;
     try {
       r = await readGeoTiff(bytes, { declaredEpsg: opts.declaredEpsg });

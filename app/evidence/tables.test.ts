@@ -64,6 +64,20 @@ describe("known sites CSV (all names invented)", () => {
     expect(ll.message).toMatch(/row 2: \(2\.95, -30\.05\) looks like longitude\/latitude.*name the columns lon and lat/);
   });
 
+  it("accepts a spreadsheet export with a byte-order mark, CRLF, semicolons and decimal commas", async () => {
+    const bytes = utf8("\uFEFFSite ID;Easting;Northing;Precision (m);Context\r\nKS-7;496000,5;6675000,25;7,5;in situ\r\n");
+    const res = await parseEvidence("known_sites", bytes, base());
+    expect(res.rows![0]).toMatchObject({ siteId: "KS-7", x: 496000.5, y: 6675000.25, precisionM: 7.5, context: "in_situ" });
+    expect(res.summary.delimiter).toBe(";");
+  });
+
+  it("refuses broken quoting with its row, and more rows than the cap", async () => {
+    const e = await refusal(parseEvidence("known_sites", utf8('site_id,x,y,precision_m,kind\nA,496000,6675000,5,"flint\nB,496000,6675000,5,peat\n'), base()));
+    expect(e.message).toMatch(/^row 2: a quoted field opened on line 2 .* is never closed/);
+    const many = "site_id,x,y,precision_m\n" + Array.from({ length: 6 }, (_, i) => `S${i},496000,6675000,5`).join("\n");
+    expect((await refusal(parseEvidence("known_sites", utf8(many), base({ limits: { maxRows: 5 } })))).message).toMatch(/more than 5 rows, over the limit/);
+  });
+
   it("refuses positions that are no place in the project CRS (swapped x and y)", async () => {
     const e = await refusal(parseEvidence("known_sites", utf8("site_id,x,y,precision_m\nA,6675000,496000,5\n"), base()));
     expect(e.message).toMatch(/row 2: \(6675000, 496000\) is not a plausible position in the project CRS EPSG:32731/);
