@@ -10,8 +10,9 @@
  */
 
 /**
- * One-dimensional squared distance transform (Felzenszwalb & Huttenlocher 2012, §2, algorithm DT):
- * d(p) = min_q ( f(q) + (spacing·(p − q))² ).
+ * One-dimensional squared distance transform, d(p) = min_q ( f(q) + (spacing·(p − q))² ), by the lower
+ * envelope of parabolas: Felzenszwalb, P.F. & Huttenlocher, D.P. (2012) "Distance Transforms of Sampled Functions", Theory of
+ * Computing 8(19), 415–428, doi:10.4086/toc.2012.v008a019, §2 (algorithm DT).
  *
  * Preconditions: `f` holds `n` values read at `f[offset + i·stride]`; +Infinity marks "no feature"
  * and such samples are left out of the envelope (the paper's intersection formula is undefined for
@@ -82,8 +83,9 @@ export function squaredDistance1D(
 }
 
 /**
- * Exact Euclidean distance (metres) from every cell centre to the nearest feature cell centre.
- * Felzenszwalb & Huttenlocher (2012), Theory of Computing 8(19): separable squared transform.
+ * Exact Euclidean distance (metres) from every cell centre to the nearest feature cell centre, by the
+ * separable squared transform of Felzenszwalb, P.F. & Huttenlocher, D.P. (2012) "Distance Transforms of Sampled Functions", Theory of
+ * Computing 8(19), 415–428, doi:10.4086/toc.2012.v008a019.
  *
  * Preconditions: `features` has length width·height, row-major with row 0 the northern edge;
  * a non-zero byte is a feature. cellSizeX, cellSizeY > 0 (metres; may differ). Nodata is the

@@ -22,8 +22,9 @@ export interface HillshadeOptions {
 }
 
 /**
- * Hillshade in bytes for display: 1–255 = shade (1 fully shadowed, 255 facing the light), 0 = nodata.
- * Horn (1981), Proc. IEEE 69(1).
+ * Hillshade in bytes for display: 1–255 = shade (1 fully shadowed, 255 facing the light), 0 = nodata;
+ * the reflectance map and gradients of Horn, B.K.P. (1981) "Hill shading and the reflectance map", Proceedings of the IEEE 69(1), 14–47,
+ * doi:10.1109/PROC.1981.11918.
  *
  * Preconditions: elevations in metres, NaN (or the mask) = nodata → 0; neighbours outside the grid
  * or nodata take the centre value (see hornGradient). Non-square cells allowed.

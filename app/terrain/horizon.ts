@@ -26,7 +26,9 @@ export const DEFAULT_SEDIMENT_VELOCITY_MPS = 1600;
 
 /**
  * Thickness (m) of a unit from its two-way travel time (ms) and interval velocity (m/s):
- * thickness = v · TWT / 2 (the wave goes down and back). 2.5 ms at 1600 m/s → 2.0 m.
+ * thickness = v · TWT / 2 (the wave goes down and back; the standard time–depth relation of
+ * reflection seismology, no single source). 2.5 ms at 1600 m/s → 2.0 m. Preconditions: finite
+ * values (callers check signs). O(1).
  */
 export function twtToThicknessM(twtMs: number, velocityMps = DEFAULT_SEDIMENT_VELOCITY_MPS): number {
   return (velocityMps * twtMs) / 2000;
@@ -80,7 +82,9 @@ export interface HorizonResult {
 
 /**
  * Grids a buried horizon's elevation from sub-bottom picks by linear interpolation on their Delaunay
- * triangulation (Delaunay 1934; Lawson 1977 flips), after converting each pick to an elevation:
+ * triangulation — Delaunay, B. (1934) "Sur la sphère vide", Izv. Akad. Nauk SSSR 7, 793–800, built with
+ * the edge flips of Lawson, C.L. (1977) "Software for C¹ surface interpolation", in Mathematical
+ * Software III, Academic Press, 161–194 — after converting each pick to an elevation:
  * horizon = seabed(x, y) − thickness, with thickness given in metres or as TWT below the seabed
  * reflector (thickness = v·TWT/2, v per pick or the default 1600 m/s).
  *
@@ -315,8 +319,10 @@ function rasteriseTriangle(
 // ---- Delaunay triangulation (incremental, Lawson flips) ------------------------------------------
 
 /**
- * Delaunay triangulation of points (Delaunay 1934) by incremental insertion with Lawson's (1977)
- * edge flips, point location by a walk (Guibas & Stolfi 1985), inside a large enclosing triangle
+ * Delaunay triangulation of points — Delaunay, B. (1934) "Sur la sphère vide", Izv. Akad. Nauk SSSR 7,
+ * 793–800 — by incremental insertion with the edge flips of Lawson, C.L. (1977) "Software for C¹
+ * surface interpolation", Mathematical Software III, 161–194, and point location by a walk (Guibas, L.
+ * & Stolfi, J. (1985) ACM Transactions on Graphics 4(2), 74–123), inside a large enclosing triangle
  * whose triangles are dropped at the end. Returns the triangles as counter-clockwise triplets of
  * point indices.
  *

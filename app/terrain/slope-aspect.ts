@@ -13,8 +13,9 @@
 const RAD_TO_DEG = 180 / Math.PI;
 
 /**
- * Horn (1981) gradient at every cell: writes dz/dx (eastwards) and dz/dy (southwards), both
- * dimensionless (metres per metre).
+ * Gradient at every cell by Horn, B.K.P. (1981) "Hill shading and the reflectance map", Proceedings of the IEEE 69(1), 14–47,
+ * doi:10.1109/PROC.1981.11918: writes dz/dx (eastwards)
+ * and dz/dy (southwards), both dimensionless (metres per metre).
  *
  * Preconditions: `elevation` row-major, row 0 north, NaN = nodata (or a non-zero byte in the optional
  * `nodata` mask). Edge treatment: a neighbour outside the grid or nodata is replaced by the centre
@@ -72,7 +73,8 @@ function cell(z: Float32Array, nodata: Uint8Array | undefined, r: number, c: num
 
 /**
  * Slope (degrees, 0–90) and aspect (degrees, azimuth of steepest descent clockwise from grid north,
- * in [0, 360); NaN on flats where dz/dx = dz/dy = 0) by Horn (1981), Proc. IEEE 69(1).
+ * in [0, 360); NaN on flats where dz/dx = dz/dy = 0) by Horn, B.K.P. (1981) "Hill shading and the reflectance map", Proceedings of the IEEE 69(1), 14–47,
+ * doi:10.1109/PROC.1981.11918.
  *
  * Preconditions and edge treatment as {@link hornGradient}: nodata (NaN or mask) gives NaN in both
  * outputs; neighbours outside the grid or nodata take the centre value. Cells may be non-square.

@@ -17,9 +17,9 @@ export interface SurveyLine {
 }
 
 /**
- * Marks (sets to 1) every cell that a line segment passes through. Amanatides & Woo (1987),
- * Eurographics '87: the walk steps from cell to cell along the segment, crossing one cell boundary
- * at a time.
+ * Marks (sets to 1) every cell that a line segment passes through, by the grid traversal of
+ * Amanatides, J. & Woo, A. (1987) "A Fast Voxel Traversal Algorithm for Ray Tracing", Eurographics '87, 3–10: the walk steps from cell to cell along the segment, crossing one
+ * cell boundary at a time.
  *
  * Preconditions: coordinates in the grid's project CRS (metres). Parts of a line outside the grid
  * are walked but not marked. A single-fix line marks its one cell. A non-finite coordinate throws
@@ -89,9 +89,10 @@ function walkSegment(mask: Uint8Array, spec: GridSpec, u0: number, w0: number, u
 }
 
 /**
- * Distance (metres) from every cell centre to the nearest cell a survey line passes through.
- * Amanatides & Woo (1987) for the rasterising; Felzenszwalb & Huttenlocher (2012), Theory of
- * Computing 8(19), for the exact Euclidean transform.
+ * Distance (metres) from every cell centre to the nearest cell a survey line passes through:
+ * Amanatides, J. & Woo, A. (1987) "A Fast Voxel Traversal Algorithm for Ray Tracing", Eurographics '87, 3–10, for the rasterising;
+ * Felzenszwalb, P.F. & Huttenlocher, D.P. (2012) "Distance Transforms of Sampled Functions", Theory of
+ * Computing 8(19), 415–428, doi:10.4086/toc.2012.v008a019, for the exact Euclidean transform.
  *
  * Preconditions: as rasteriseLines. The distance is measured to the centres of the crossed cells, so
  * it can differ from the distance to the line itself by up to half a cell diagonal. With no line

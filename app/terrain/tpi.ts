@@ -12,7 +12,9 @@
  * TPI (metres; positive on ridges and knolls, negative in valleys and hollows) over a rectangular
  * window reaching `radiusM` from the centre in each direction: half-widths round(radiusM / cellSizeX)
  * columns and round(radiusM / cellSizeY) rows (at least 1), the centre cell itself excluded from the
- * mean. Guisan et al. (1999) Plant Ecology 143; summed-area tables after Crow (1984).
+ * mean. Guisan, A., Weiss, S.B. & Weiss, A.D. (1999) "GLM versus CCA spatial modeling of plant species
+ * distribution", Plant Ecology 143, 107–122; summed-area tables after Crow, F.C. (1984) "Summed-area
+ * tables for texture mapping", Computer Graphics 18(3), 207–212.
  *
  * Preconditions: elevations in metres, NaN (or the optional mask) = nodata. Nodata cells give NaN and
  * are left out of their neighbours' means; the window is clipped at the grid edge (the mean is over
