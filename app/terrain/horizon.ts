@@ -568,7 +568,8 @@ class Mesh {
  * Parses a picks CSV with a header row. Columns (names case-insensitive, any order): `line`, `x`, `y`
  * and either `depth_m` (horizon depth below seabed, metres) or `twt_ms` (two-way time below the
  * seabed reflector, ms) with an optional `velocity_mps`; other columns are ignored. Throws
- * TerrainInputError naming the row (1-based, header = row 1) and column of the first bad value.
+ * TerrainInputError naming the row (1-based, header = row 1) and column of the first bad value. Signs
+ * and ranges are checked by gridHorizon. O(k) for k rows.
  */
 export function parsePicksCsv(text: string): HorizonPicks {
   const rows = text.split(/\r?\n/).filter((l) => l.trim() !== "");
