@@ -4,14 +4,14 @@
  * ("GP", version, flags, srs_id, optional envelope; §2.1.3) followed by WKB (wkb.ts). The CRS comes
  * from gpkg_spatial_ref_sys: an EPSG organisation code, else the WKT definition via terrain/crs.ts.
  */
-import initSqlJs from "sql.js";
+import type initSqlJsType from "sql.js";
 import { crsFromWkt } from "../terrain/crs";
 import { type SourceCrs, WGS84, sourceFromEpsg, terrain } from "./crs-transform";
 import { EvidenceError, type EvidenceLimits, type ParseOptions } from "./types";
 import type { RawFeature, VectorSource } from "./vectors";
 import { readWkb } from "./wkb";
 
-let sqlPromise: ReturnType<typeof initSqlJs> | null = null;
+let sqlPromise: ReturnType<typeof initSqlJsType> | null = null;
 
 /** Envelope sizes in bytes by the flags' envelope indicator (§2.1.3.1.1). */
 const ENVELOPE_BYTES = [0, 32, 48, 48, 64];
@@ -46,7 +46,8 @@ const q = (id: string) => `"${id.replace(/"/g, '""')}"`;
 
 /** Reads the first feature table of a GeoPackage (others are named in the notes). */
 export async function readGeoPackage(bytes: Uint8Array, limits: EvidenceLimits, opts: ParseOptions): Promise<VectorSource> {
-  sqlPromise ??= initSqlJs();
+  // loaded on first use, so importing the readers does not load the WebAssembly SQLite
+  sqlPromise ??= import("sql.js").then((m) => (m.default as typeof initSqlJsType)());
   const SQL = await sqlPromise;
   let db;
   try {

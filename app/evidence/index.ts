@@ -6,30 +6,11 @@ import { parseGridEvidence } from "./grids";
 import { describeUnknown, sniffFormat } from "./sniff";
 import { parseTableEvidence } from "./tables";
 import { parseVectorEvidence } from "./vectors";
-import { EvidenceError, type EvidenceFormat, type EvidenceKind, EVIDENCE_KINDS, type ParseOptions, type ParsedEvidence, resolveLimits } from "./types";
+import { EvidenceError, type EvidenceFormat, type EvidenceKind, EVIDENCE_KINDS, KIND_FORMATS, type ParseOptions, type ParsedEvidence, resolveLimits } from "./types";
 
-export * from "./types";
+export * from "./types"; // the types, EVIDENCE_KINDS and KIND_FORMATS: import them from "./types" in browser code
 export { sniffFormat } from "./sniff";
 export { geotiffHeaderCheck } from "./geotiff-header";
-
-/** Formats each kind accepts (design §2), in the order they are suggested to the user. */
-export const KIND_FORMATS: Record<EvidenceKind, EvidenceFormat[]> = {
-  bathymetry: ["geotiff", "esri-ascii", "xyz"],
-  horizon_picks: ["csv"],
-  horizon_grid: ["geotiff", "esri-ascii", "xyz"],
-  survey_lines: ["csv", "geojson", "gpkg", "shapefile-zip"],
-  interpretations: ["geojson", "gpkg", "shapefile-zip"],
-  sea_level_curve: ["csv"],
-  sea_level_index_points: ["csv"],
-  tidal_range: ["csv", "geotiff", "esri-ascii"],
-  known_sites: ["csv", "geojson", "gpkg", "shapefile-zip"],
-  cores: ["csv", "ags4"],
-  lease_blocks: ["geojson", "gpkg", "shapefile-zip"],
-  survey_area: ["geojson", "gpkg", "shapefile-zip"],
-  ocean_boundary: ["geojson", "gpkg", "shapefile-zip"],
-  exclusions: ["geojson", "gpkg", "shapefile-zip"],
-  development_footprint: ["geojson", "gpkg", "shapefile-zip"],
-};
 
 const FORMAT_NAMES: Record<EvidenceFormat, string> = {
   geotiff: "GeoTIFF",

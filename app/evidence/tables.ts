@@ -205,7 +205,12 @@ function horizonPicks(table: CsvTable, opts: ParseOptions, project: Crs, warning
   }
   problems.throwIfAny();
   if (defaultVelocity) warnings.push(`${defaultVelocity} picks in two-way time have no velocity: ${DEFAULT_SEDIMENT_VELOCITY_MPS} m/s was used (a common default for unconsolidated shelf sediment)`);
-  const counts = [...perLine.values()];
+  let minPerLine = Infinity;
+  let maxPerLine = 0;
+  for (const c of perLine.values()) {
+    if (c < minPerLine) minPerLine = c;
+    if (c > maxPerLine) maxPerLine = c;
+  }
   return {
     rows,
     extent: extentOf(pos.x, pos.y),
@@ -213,7 +218,7 @@ function horizonPicks(table: CsvTable, opts: ParseOptions, project: Crs, warning
       measure: hasDepth ? "depth_below_seabed_m" : "twt_ms",
       horizons: [...horizons],
       lines: perLine.size,
-      picksPerLine: { min: Math.min(...counts), max: Math.max(...counts) },
+      picksPerLine: { min: minPerLine, max: maxPerLine },
       defaultVelocityMps: hasTwt ? DEFAULT_SEDIMENT_VELOCITY_MPS : null,
       picksWithDefaultVelocity: defaultVelocity,
       depthFormula: hasTwt ? "depth below seabed = velocity × TWT / 2" : null,
@@ -356,7 +361,7 @@ function seaLevelCurve(table: CsvTable, opts: ParseOptions) {
     rows,
     summary: {
       ages: { fromKa: rows[0].ageKa, toKa: rows[rows.length - 1].ageKa },
-      rsl: { min: Math.min(...rows.map((r) => r.rslM)), max: Math.max(...rows.map((r) => r.rslM)) },
+      rsl: { min: rows.reduce((m, r) => Math.min(m, r.rslM), Infinity), max: rows.reduce((m, r) => Math.max(m, r.rslM), -Infinity) },
       ageUnitInFile: inYears ? "years BP (divided by 1000)" : "ka BP",
       rowsWithoutSigma: noSigma,
       columns: columnsFound(table, CURVE_COLUMNS, cols),

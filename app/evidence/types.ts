@@ -43,6 +43,25 @@ export const EVIDENCE_KINDS = [
 ] as const;
 export type EvidenceKind = (typeof EVIDENCE_KINDS)[number];
 
+/** Formats each kind accepts (design §2), in the order they are suggested to the user. */
+export const KIND_FORMATS: Record<EvidenceKind, EvidenceFormat[]> = {
+  bathymetry: ["geotiff", "esri-ascii", "xyz"],
+  horizon_picks: ["csv"],
+  horizon_grid: ["geotiff", "esri-ascii", "xyz"],
+  survey_lines: ["csv", "geojson", "gpkg", "shapefile-zip"],
+  interpretations: ["geojson", "gpkg", "shapefile-zip"],
+  sea_level_curve: ["csv"],
+  sea_level_index_points: ["csv"],
+  tidal_range: ["csv", "geotiff", "esri-ascii"],
+  known_sites: ["csv", "geojson", "gpkg", "shapefile-zip"],
+  cores: ["csv", "ags4"],
+  lease_blocks: ["geojson", "gpkg", "shapefile-zip"],
+  survey_area: ["geojson", "gpkg", "shapefile-zip"],
+  ocean_boundary: ["geojson", "gpkg", "shapefile-zip"],
+  exclusions: ["geojson", "gpkg", "shapefile-zip"],
+  development_footprint: ["geojson", "gpkg", "shapefile-zip"],
+};
+
 export type EvidenceFormat = "geotiff" | "esri-ascii" | "xyz" | "csv" | "geojson" | "gpkg" | "shapefile-zip" | "ags4";
 
 export interface EvidenceLimits {
