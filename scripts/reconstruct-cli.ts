@@ -17,7 +17,7 @@ import { writeGeoTiff } from "../app/terrain/geotiff-write.ts";
 import { nodeDeflate } from "../app/terrain/geotiff-deflate-node.ts";
 import { toElevationMsl } from "../app/terrain/vertical-datum.ts";
 import { defaultGlobalCurve, parseSeaLevelCsv, type SeaLevelModel } from "../app/terrain/sea-level.ts";
-import { gridHorizon, parsePicksCsv, type HorizonResult } from "../app/terrain/horizon.ts";
+import { gridHorizon, horizonFromGrid, parsePicksCsv, type HorizonResult } from "../app/terrain/horizon.ts";
 import { type SurveyLine, parseSurveyLinesCsv, parseSurveyLinesGeoJson, rasteriseLines } from "../app/terrain/survey-lines.ts";
 import { type LayerOut, type ReconstructInput, reconstruct, inlineAgeRunner } from "../app/terrain/reconstruct.ts";
 import { workerAgeRunner } from "../app/terrain/reconstruct-worker.ts";
@@ -151,32 +151,9 @@ async function main(): Promise<number> {
     const h = await readGeoTiff(readFile(str(a, "horizon")!, "--horizon"), { declaredEpsg: epsg ?? spec.crs?.epsg });
     if (!sameSpec(h.grid.spec, spec)) throw new TerrainInputError("--horizon must be on the same grid as --dem (size, origin and cell size)");
     const hz = toElevationMsl(h.grid, datum);
-    const n = spec.width * spec.height;
-    const elevationM = new Float32Array(n);
-    const unassessed = new Uint8Array(n);
-    const thicknessM = new Float32Array(n);
-    let assessed = 0;
-    for (let i = 0; i < n; i++) {
-      if (hz.nodata[i] || seabed.nodata[i]) {
-        elevationM[i] = thicknessM[i] = NaN;
-        unassessed[i] = 1;
-      } else {
-        elevationM[i] = Math.min(hz.data[i], seabed.data[i]);
-        thicknessM[i] = seabed.data[i] - elevationM[i];
-        assessed++;
-      }
-    }
-    const res = num(a, "vertical-resolution-m", 0.3)!;
-    const belowResolution = new Uint8Array(n);
-    for (let i = 0; i < n; i++) if (!unassessed[i] && thicknessM[i] < res) belowResolution[i] = 1;
-    horizon = {
-      name: horizonName,
-      result: {
-        elevationM, unassessed, thicknessM, belowResolution, distanceToLineM: new Float32Array(n).fill(NaN),
-        pickCount: 0, pointCount: 0, picksOnNodata: 0, clampedCells: 0, assessedCells: assessed,
-      },
-    };
-    log(`horizon grid ${a.horizon}: ${assessed} cells assessed`);
+    const result = horizonFromGrid(seabed.data, hz.data, num(a, "vertical-resolution-m", 0.3)!);
+    horizon = { name: horizonName, result };
+    log(`horizon grid ${a.horizon}: ${result.assessedCells} cells assessed, ${result.clampedCells} set to the seabed where the horizon rose above it`);
   }
 
   let seaLevel: SeaLevelModel;

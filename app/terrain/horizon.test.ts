@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { delaunayTriangles, gridHorizon, parsePicksCsv, twtToThicknessM, type HorizonPicks } from "./horizon.ts";
+import { delaunayTriangles, gridHorizon, horizonFromGrid, parsePicksCsv, twtToThicknessM, type HorizonPicks } from "./horizon.ts";
 import { TerrainCancelled, TerrainInputError, type GridSpec } from "./grid.ts";
 import { prng } from "./test-utils.ts";
 
@@ -137,7 +137,7 @@ describe("gridHorizon", () => {
     expect(assessed).toBeGreaterThan(1000);
     // a cell 400 m east of the last line is unassessed; a cell midway between lines is assessed
     expect(res.unassessed[20 * 60 + 57]).toBe(1);
-    expect(res.distanceToLineM[20 * 60 + 57]).toBeGreaterThan(200);
+    expect(res.distanceToLineM![20 * 60 + 57]).toBeGreaterThan(200);
     expect(res.unassessed[20 * 60 + 10]).toBe(0);
   });
 
@@ -216,6 +216,23 @@ describe("gridHorizon", () => {
     expect(() => gridHorizon(seabed, s, bad, { unassessedBeyondM: 20, verticalResolutionM: 0.1 })).toThrow(/pick 2 \(line A\)/);
     const both: HorizonPicks = { ...bad, depthBelowSeabedM: [1, 1], twtMs: [1, 1] };
     expect(() => gridHorizon(seabed, s, both, { unassessedBeyondM: 20, verticalResolutionM: 0.1 })).toThrow(/either the depth/);
+  });
+});
+
+describe("horizonFromGrid", () => {
+  it("keeps nodata as unassessed (never zero cover), clamps above the seabed and flags thin cover", () => {
+    const seabed = Float32Array.of(-40, -40, -40, NaN);
+    const hz = Float32Array.of(-42, NaN, -39, -50);
+    const r = horizonFromGrid(seabed, hz, 0.5);
+    // (formula) −40.0 m seabed over a −42.0 m horizon: 2.0 m cover
+    expect(r.thicknessM[0]).toBeCloseTo(2.0, 6);
+    expect(Array.from(r.unassessed)).toEqual([0, 1, 0, 1]);
+    expect(Number.isNaN(r.thicknessM[1])).toBe(true);
+    expect(r.elevationM[2]).toBe(-40);
+    expect(r.clampedCells).toBe(1);
+    expect(Array.from(r.belowResolution)).toEqual([0, 0, 1, 0]);
+    expect(r.distanceToLineM).toBeNull();
+    expect(() => horizonFromGrid(seabed, new Float32Array(3), 0.5)).toThrow(/same grid/);
   });
 });
 

@@ -68,8 +68,8 @@ export interface HorizonResult {
   thicknessM: Float32Array;
   /** 1 where assessed and the cover is thinner than the vertical resolution */
   belowResolution: Uint8Array;
-  /** distance (m) from each cell centre to the nearest line with picks */
-  distanceToLineM: Float32Array;
+  /** distance (m) from each cell centre to the nearest line with picks; null for a horizon given as a grid */
+  distanceToLineM: Float32Array | null;
   pickCount: number;
   /** points triangulated after merging picks per cell */
   pointCount: number;
@@ -229,6 +229,46 @@ export function gridHorizon(
   }
   ticker.finish();
   return { elevationM, unassessed, thicknessM, belowResolution, distanceToLineM, pickCount: p, pointCount: m, picksOnNodata, clampedCells, assessedCells };
+}
+
+/**
+ * A horizon supplied as a grid (elevation, m, same grid and datum as the seabed, NaN = unassessed)
+ * made into the same result as gridHorizon gives from picks: unassessed where either grid has no
+ * value, set to the seabed where it rises above it (counted), cover thickness and the thin-cover flag
+ * against `verticalResolutionM`. O(n).
+ */
+export function horizonFromGrid(seabed: Float32Array, horizonElevationM: Float32Array, verticalResolutionM: number): HorizonResult {
+  if (horizonElevationM.length !== seabed.length) {
+    throw new TerrainInputError(`the horizon grid has ${horizonElevationM.length} cells but the seabed grid ${seabed.length}: they must be on the same grid`);
+  }
+  if (!(verticalResolutionM >= 0)) throw new TerrainInputError(`the vertical resolution must be zero or more metres, got ${verticalResolutionM}`);
+  const n = seabed.length;
+  const elevationM = new Float32Array(n);
+  const unassessed = new Uint8Array(n);
+  const thicknessM = new Float32Array(n);
+  const belowResolution = new Uint8Array(n);
+  let assessedCells = 0;
+  let clampedCells = 0;
+  for (let i = 0; i < n; i++) {
+    const h = horizonElevationM[i];
+    const sb = seabed[i];
+    if (h !== h || sb !== sb) {
+      elevationM[i] = NaN;
+      thicknessM[i] = NaN;
+      unassessed[i] = 1;
+      continue;
+    }
+    assessedCells++;
+    let e = h;
+    if (e > sb) {
+      e = sb;
+      clampedCells++;
+    }
+    elevationM[i] = e;
+    thicknessM[i] = sb - e;
+    if (sb - e < verticalResolutionM) belowResolution[i] = 1;
+  }
+  return { elevationM, unassessed, thicknessM, belowResolution, distanceToLineM: null, pickCount: 0, pointCount: 0, picksOnNodata: 0, clampedCells, assessedCells };
 }
 
 /** bilinear sample at fractional cell-centre coordinates; nearest cell if a neighbour is nodata; NaN off grid */

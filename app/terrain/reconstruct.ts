@@ -554,9 +554,7 @@ export async function reconstruct(input: ReconstructInput, options: ReconstructO
     await sink(out("cover_thickness", null, "float32", "m", "NaN", hz.thicknessM.slice()));
     await sink(out("unassessed", null, "uint8", "mask", 255, markNodata(hz.unassessed.slice(), seabed.nodata)));
     await sink(out("thin_cover", null, "uint8", "mask", 255, markNodata(hz.belowResolution.slice(), seabed.nodata)));
-    const dl = finiteOrNaN(hz.distanceToLineM.slice(), seabed.nodata);
-    const dlStats = layerStats(dl, "NaN");
-    if (dlStats.validCount > 0) await sink({ name: "dist_pick_line", ageKa: null, type: "float32", units: "m", nodata: "NaN", data: dl, stats: dlStats });
+    if (hz.distanceToLineM) await sink(out("dist_pick_line", null, "float32", "m", "NaN", finiteOrNaN(hz.distanceToLineM.slice(), seabed.nodata)));
   }
   if (input.surveyLines && input.surveyLines.length > 0) {
     await sink(out("dist_survey_line", null, "float32", "m", "NaN", finiteOrNaN(distanceToNearestLine(input.surveyLines, spec), seabed.nodata)));
