@@ -3,10 +3,11 @@
 // about a queue without a kind (its jobs wait for a worker that has it).
 import { testJobsEnabled } from "./boss.server";
 import { testSleepJob } from "./test-sleep";
+import { reconstructionJob } from "./reconstruction";
 import type { JobDefinition } from "./wrapper";
 
 export const JOB_REGISTRY: Record<string, JobDefinition<any>> = {
-  // reconstruction: added with the reconstruction job (issue 7).
+  [reconstructionJob.kind]: reconstructionJob,
 };
 
 if (testJobsEnabled()) JOB_REGISTRY[testSleepJob.kind] = testSleepJob;

@@ -1,6 +1,6 @@
 // GET /api/datasets/:datasetId — one dataset's metadata and provenance.
 // DELETE — remove it and its stored files (analysts and up).
-import { requireDatasetAccess } from "~/datasets-access.server";
+import { requireDatasetAccess } from "~/resource-access.server";
 import { datasetView, deleteDataset, getDataset } from "~/datasets.server";
 import { apiAction, methodNotAllowed } from "~/route-helpers.server";
 import { PRIVATE_HEADERS } from "~/sites.server";

@@ -1,0 +1,44 @@
+// Access to a resource addressed by its own id (API routes without a project in the path): the
+// resource's project decides, through the same gate as every project route, and a non-member
+// learns nothing about whether the resource exists.
+import { eq } from "drizzle-orm";
+import { db } from "./db.server";
+import { datasets, jobRuns, reconstructions } from "./db/schema";
+import { requireProjectAccess } from "./permissions.server";
+import { requireIdentity } from "./auth.server";
+import { refusal } from "./security.server";
+import type { Capability } from "./permissions";
+
+type Lookup = (id: string) => Promise<number | null | undefined>;
+
+async function requireResourceAccess(request: Request, idParam: string | undefined, pattern: RegExp, lookup: Lookup, capability: Capability, code: string, what: string) {
+  await requireIdentity(request);
+  const notFound = () => refusal(request, 404, code, `There is no ${what} here, or you are not a member of its project.`);
+  if (!idParam || !pattern.test(idParam)) throw notFound();
+  const projectId = await lookup(idParam);
+  if (!projectId) throw notFound();
+  try {
+    return await requireProjectAccess(request, String(projectId), capability);
+  } catch (e) {
+    if (e instanceof Response && e.status === 404) throw notFound();
+    throw e;
+  }
+}
+
+const NUMERIC = /^\d{1,9}$/;
+const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/;
+
+export async function requireDatasetAccess(request: Request, idParam: string | undefined, capability: Capability) {
+  const access = await requireResourceAccess(request, idParam, NUMERIC, async (id) => (await db().select({ p: datasets.projectId }).from(datasets).where(eq(datasets.id, Number(id))))[0]?.p, capability, "no_such_dataset", "dataset");
+  return { ...access, datasetId: Number(idParam) };
+}
+
+export async function requireReconstructionAccess(request: Request, idParam: string | undefined, capability: Capability) {
+  const access = await requireResourceAccess(request, idParam, NUMERIC, async (id) => (await db().select({ p: reconstructions.projectId }).from(reconstructions).where(eq(reconstructions.id, Number(id))))[0]?.p, capability, "no_such_reconstruction", "reconstruction");
+  return { ...access, reconstructionId: Number(idParam) };
+}
+
+export async function requireJobAccess(request: Request, idParam: string | undefined, capability: Capability) {
+  const access = await requireResourceAccess(request, idParam, UUID, async (id) => (await db().select({ p: jobRuns.projectId }).from(jobRuns).where(eq(jobRuns.id, id)))[0]?.p, capability, "no_such_job", "job");
+  return { ...access, jobRunId: idParam! };
+}

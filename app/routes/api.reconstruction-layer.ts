@@ -1,0 +1,43 @@
+// GET /api/reconstructions/:id/layers/:layer?age=<ka> — the layer as a GeoTIFF (project CRS).
+//   &display=8|16 — a quantised copy for the map: raw little-endian codes, row-major, with
+//   X-Lowstand-Width/Height/Scale/Offset/Nodata-Code headers (value = code × scale + offset).
+import { requireReconstructionAccess } from "~/resource-access.server";
+import { findLayer, layerGrid } from "~/layers.server";
+import { store } from "~/storage.server";
+import { quantise } from "~/raster-display";
+import { apiError } from "~/security.server";
+import { methodNotAllowed } from "~/route-helpers.server";
+import type { Route } from "./+types/api.reconstruction-layer";
+
+export async function loader({ request, params }: Route.LoaderArgs) {
+  const { reconstructionId } = await requireReconstructionAccess(request, params.id, "project.read");
+  const url = new URL(request.url);
+  const { layer, key, ageKa } = await findLayer(reconstructionId, params.layer, url.searchParams.get("age"));
+  const display = url.searchParams.get("display");
+  if (display === null) {
+    const bytes = await store().getBytes(key);
+    const file = `r${reconstructionId}-${layer.name}${ageKa === null ? "" : `-${ageKa}ka`}.tif`;
+    return new Response(new Uint8Array(bytes), { headers: { "Content-Type": "image/tiff", "Content-Disposition": `attachment; filename="${file}"`, "Cache-Control": "private, max-age=3600" } });
+  }
+  if (display !== "8" && display !== "16") return apiError(400, "bad_display", "display must be 8 or 16 (bits).");
+  const grid = await layerGrid(key);
+  const q = quantise(grid.data, "NaN", display === "8" ? 8 : 16);
+  const body = new Uint8Array(q.data.buffer as ArrayBuffer, q.data.byteOffset, q.data.byteLength);
+  return new Response(body, {
+    headers: {
+      "Content-Type": "application/octet-stream",
+      "X-Lowstand-Width": String(grid.spec.width),
+      "X-Lowstand-Height": String(grid.spec.height),
+      "X-Lowstand-Scale": String(q.scale),
+      "X-Lowstand-Offset": String(q.offset),
+      "X-Lowstand-Nodata-Code": String(q.nodataCode),
+      "X-Lowstand-Units": layer.units,
+      "Cache-Control": "private, max-age=3600",
+    },
+  });
+}
+
+export async function action({ request, params }: Route.ActionArgs) {
+  await requireReconstructionAccess(request, params.id, "project.read");
+  return methodNotAllowed(["GET"]);
+}
