@@ -82,7 +82,11 @@ export function readShp(shp: Uint8Array, maxFeatures: number): RawFeature["geome
   if (v.getInt32(0, false) !== 9994) throw new EvidenceError("the .shp file does not start with the Shapefile code 9994: it is damaged or not a Shapefile", { byte: 0 });
   const out: RawFeature["geometry"][] = [];
   let o = 100;
-  const end = Math.min(shp.length, v.getInt32(24, false) * 2);
+  const declared = v.getInt32(24, false) * 2;
+  if (declared > shp.length) {
+    throw new EvidenceError(`the .shp header says the file is ${declared} bytes, but it has ${shp.length}: the file is truncated`, { byte: shp.length });
+  }
+  const end = declared;
   while (o + 8 <= end) {
     const len = v.getInt32(o + 4, false) * 2;
     const c = o + 8;
