@@ -65,11 +65,11 @@ async function loop() {
     } catch (err) {
       console.error(`${tag} fetching jobs failed:`, (err as Error).message);
     }
-    if (!job || shutdown.signal.aborted) {
-      // A job fetched just as shutdown began stays active; the reaper hands it on.
-      if (!job) await pause(settings.fetchIntervalMs);
+    if (!job) {
+      await pause(settings.fetchIntervalMs);
       continue;
     }
+    // A job fetched just as shutdown began still goes through the wrapper, which hands it back at once.
     const def = JOB_REGISTRY[job.name];
     const p: Promise<void> = runAttempt(def, job, settings, shutdown.signal)
       .catch((err) => console.error(`${tag} ${job.name} queue job ${job.id}: the wrapper itself failed`, err))

@@ -38,11 +38,19 @@ export interface JobContext<P> {
   control: RunControl;
   /** True once the user asked to cancel, or this attempt must stop (worker shutting down, time limit, run taken over). */
   isCancelled(): boolean;
+  /**
+   * Why `isCancelled()` is true: "cancel" (the user asked: the run ends as cancelled), "shutdown"
+   * (the worker is stopping), "expired" (the attempt's time limit) — both retried —, or "lost"
+   * (the run was taken from this attempt: nothing it does any more counts). Null while it may go on.
+   */
+  stopReason(): StopReason | null;
   /** Throws TerrainCancelled when `isCancelled()`. */
   throwIfCancelled(): void;
   /** Aborted when `isCancelled()` becomes true; for sleeps and fetches inside a handler. */
   signal: AbortSignal;
 }
+
+export type StopReason = "cancel" | "shutdown" | "expired" | "lost";
 
 export type JobHandler<P> = (ctx: JobContext<P>) => Promise<Record<string, unknown> | void>;
 
@@ -206,6 +214,7 @@ export async function runAttempt(def: JobDefinition<any>, job: QueueJob, setting
     progress,
     control: { onProgress: (f, step) => progress(f, step), shouldCancel: isCancelled },
     isCancelled,
+    stopReason: () => (live.lost ? "lost" : live.cancelRequested ? "cancel" : live.expired ? "expired" : shutdown.aborted ? "shutdown" : null),
     throwIfCancelled: () => {
       if (isCancelled()) throw new TerrainCancelled();
     },
