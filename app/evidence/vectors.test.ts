@@ -136,6 +136,11 @@ describe("GeoJSON (RFC 7946, WGS 84) into the project CRS", () => {
     expect(b.message).toMatch(/feature 1: kind is 'shipwreck'; use one of cable, pipeline, wreck, anomaly, turbine, anchor, other; feature 1: buffer_m is 'wide', not a number/);
   });
 
+  it("refuses features far outside the project's transverse Mercator zone, naming them", async () => {
+    const e = await refusal(parseEvidence("lease_blocks", fc([feature(square(2.95, -30.05)), feature(square(100, 40))]), base()));
+    expect(e.message).toMatch(/^the GeoJSON has a problem: feature 2: lies at no plausible place in the project CRS EPSG:32731/);
+  });
+
   it("caps features and vertices", async () => {
     const many = fc(Array.from({ length: 5 }, () => feature(square(2.95, -30.05))));
     expect((await refusal(parseEvidence("lease_blocks", many, base({ limits: { maxFeatures: 4 } })))).message).toMatch(/5 features, over the limit of 4/);

@@ -246,34 +246,70 @@ export function propertiesTable(features: RawFeature[]): CsvTable {
   return { header, keys: header.map(normaliseName), delimiter: ",", records, lines: features.map((f) => f.index), headerLine: 0, unit: "feature" };
 }
 
-/** Transforms every geometry to the project CRS (in place), checking positions; returns the description. */
+/**
+ * Transforms every geometry to the project CRS (in place), checking positions; returns the
+ * description. Plausibility in the project CRS is checked on the corners of the whole extent, and
+ * feature by feature (their extents' corners) only when that fails. O(vertices) projections.
+ */
 function transformFeatures(src: VectorSource, project: Crs, problems: Problems): string {
   const t = makeTransformer(src.crs, project);
   const ok = plausibleIn(project);
-  for (const f of src.features) {
-    if (!f.geometry) continue;
+  const boxes = new Float64Array(src.features.length * 4);
+  let any = false;
+  src.features.forEach((f, k) => {
+    let minX = Infinity;
+    let minY = Infinity;
+    let maxX = -Infinity;
+    let maxY = -Infinity;
     let reported = false;
-    eachPosition(f.geometry, (p) => {
-      if (reported) return;
-      if (src.crs.geographic && (Math.abs(p[0]) > 180 || Math.abs(p[1]) > 90)) {
-        problems.add(
-          `feature ${f.index}: position (${p[0]}, ${p[1]}) is not longitude/latitude, but ${src.crsSource} says it should be: export the file as WGS 84, or give its CRS`,
-          { feature: f.index },
-        );
-        reported = true;
-        return;
-      }
-      const [x, y] = t.one(p[0], p[1]);
-      if (!ok(x, y)) {
-        problems.add(`feature ${f.index}: position (${p[0]}, ${p[1]}) does not map to a plausible place in the project CRS EPSG:${project.epsg}`, { feature: f.index });
-        reported = true;
-        return;
-      }
-      p[0] = x;
-      p[1] = y;
-      if (p.length > 2) p.length = 2;
-    });
+    if (f.geometry) {
+      eachPosition(f.geometry, (p) => {
+        if (reported) return;
+        if (src.crs.geographic && (Math.abs(p[0]) > 180 || Math.abs(p[1]) > 90)) {
+          problems.add(
+            `feature ${f.index}: position (${p[0]}, ${p[1]}) is not longitude/latitude, but ${src.crsSource} says it should be: export the file as WGS 84, or give its CRS`,
+            { feature: f.index },
+          );
+          reported = true;
+          return;
+        }
+        const [x, y] = t.one(p[0], p[1]);
+        if (!Number.isFinite(x) || !Number.isFinite(y)) {
+          problems.add(`feature ${f.index}: position (${p[0]}, ${p[1]}) cannot be transformed to the project CRS EPSG:${project.epsg}`, { feature: f.index });
+          reported = true;
+          return;
+        }
+        p[0] = x;
+        p[1] = y;
+        if (p.length > 2) p.length = 2;
+        if (x < minX) minX = x;
+        if (x > maxX) maxX = x;
+        if (y < minY) minY = y;
+        if (y > maxY) maxY = y;
+      });
+    }
+    boxes.set([minX, minY, maxX, maxY], k * 4);
+    if (minX <= maxX) any = true;
+  });
+  if (!any || problems.any) return t.description;
+  const corners = (b: ArrayLike<number>, o: number) => ok(b[o], b[o + 1]) && ok(b[o], b[o + 3]) && ok(b[o + 2], b[o + 1]) && ok(b[o + 2], b[o + 3]);
+  let gx0 = Infinity;
+  let gy0 = Infinity;
+  let gx1 = -Infinity;
+  let gy1 = -Infinity;
+  for (let k = 0; k < src.features.length; k++) {
+    if (!(boxes[k * 4] <= boxes[k * 4 + 2])) continue;
+    gx0 = Math.min(gx0, boxes[k * 4]);
+    gy0 = Math.min(gy0, boxes[k * 4 + 1]);
+    gx1 = Math.max(gx1, boxes[k * 4 + 2]);
+    gy1 = Math.max(gy1, boxes[k * 4 + 3]);
   }
+  if (corners([gx0, gy0, gx1, gy1], 0)) return t.description;
+  src.features.forEach((f, k) => {
+    if (boxes[k * 4] <= boxes[k * 4 + 2] && !corners(boxes, k * 4)) {
+      problems.add(`feature ${f.index}: lies at no plausible place in the project CRS EPSG:${project.epsg} (x ${boxes[k * 4].toFixed(0)}–${boxes[k * 4 + 2].toFixed(0)}, y ${boxes[k * 4 + 1].toFixed(0)}–${boxes[k * 4 + 3].toFixed(0)}): is its CRS right?`, { feature: f.index });
+    }
+  });
   return t.description;
 }
 
