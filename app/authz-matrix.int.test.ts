@@ -7,7 +7,8 @@
 import { beforeAll, describe, expect, it } from "vitest";
 import routes from "./routes";
 import { db } from "./db.server";
-import { datasets } from "./db/schema";
+import { datasets, jobRuns, reconstructions } from "./db/schema";
+import { eq } from "drizzle-orm";
 import { buildWorld, call, cookieFor, EVERYONE, headersFor, isRefusal, type CallOptions, type Who, type World } from "../tests/support/world";
 
 type Verdict = "allow" | "refuse";
@@ -115,6 +116,42 @@ const MATRIX: Record<string, Probe[]> = {
   "routes/api.project-sites.ts": [
     { method: "GET", path: (w) => `/api/projects/${w.projectId}/sites`, params: pid, expect: projectPage([...MEMBERS, "viewerToken"]) },
   ],
+  "routes/project-reconstructions.tsx": [
+    { method: "GET", path: (w) => `/projects/${w.projectId}/reconstructions`, params: pid, expect: projectPage(MEMBERS) },
+    { method: "POST", path: (w) => `/projects/${w.projectId}/reconstructions`, params: pid, options: { form: { ages: "" } }, expect: projectPage(UPLOADERS) },
+  ],
+  "routes/project-reconstruction.tsx": [
+    { method: "GET", path: (w) => `/projects/${w.projectId}/reconstructions/x`, params: (w) => ({ ...pid(w), reconstructionId: String(reconstructionId) }), expect: projectPage(MEMBERS) },
+    { method: "POST", path: (w) => `/projects/${w.projectId}/reconstructions/x`, params: (w) => ({ ...pid(w), reconstructionId: String(reconstructionId) }), options: { form: { intent: "nothing" } }, expect: projectPage(UPLOADERS) },
+  ],
+  "routes/project-job.tsx": [{ method: "GET", path: (w) => `/projects/${w.projectId}/jobs/x`, params: (w) => ({ ...pid(w), jobId }), expect: projectPage(MEMBERS) }],
+  "routes/project-sea-level.tsx": [
+    { method: "GET", path: (w) => `/projects/${w.projectId}/sea-level`, params: pid, expect: projectPage(MEMBERS) },
+    { method: "POST", path: (w) => `/projects/${w.projectId}/sea-level`, params: pid, options: { form: { intent: "nothing" } }, expect: projectPage(UPLOADERS) },
+  ],
+  "routes/api.project-reconstructions.ts": [
+    { method: "GET", path: (w) => `/api/projects/${w.projectId}/reconstructions`, params: pid, expect: projectPage([...MEMBERS, "viewerToken"]) },
+    { method: "POST", path: (w) => `/api/projects/${w.projectId}/reconstructions`, params: pid, options: { json: {} }, expect: projectPage(UPLOADERS) },
+  ],
+  "routes/api.reconstruction.ts": [
+    { method: "GET", path: () => `/api/reconstructions/x`, params: () => ({ id: String(reconstructionId) }), expect: projectPage([...MEMBERS, "viewerToken"]) },
+    { method: "POST", path: () => `/api/reconstructions/x`, params: () => ({ id: String(reconstructionId) }), options: { json: {} }, expect: projectPage([...MEMBERS, "viewerToken"]) },
+  ],
+  "routes/api.reconstruction-layer.ts": [
+    { method: "GET", path: () => `/api/reconstructions/x/layers/slope_deg`, params: () => ({ id: String(reconstructionId), layer: "slope_deg" }), expect: projectPage([...MEMBERS, "viewerToken"]) },
+    { method: "POST", path: () => `/api/reconstructions/x/layers/slope_deg`, params: () => ({ id: String(reconstructionId), layer: "slope_deg" }), options: { json: {} }, expect: projectPage([...MEMBERS, "viewerToken"]) },
+  ],
+  "routes/api.reconstruction-layer-preview.ts": [
+    { method: "GET", path: () => `/api/reconstructions/x/layers/slope_deg/preview.png`, params: () => ({ id: String(reconstructionId), layer: "slope_deg" }), expect: projectPage([...MEMBERS, "viewerToken"]) },
+  ],
+  "routes/api.job.ts": [
+    { method: "GET", path: () => `/api/jobs/x`, params: () => ({ jobId }), expect: projectPage([...MEMBERS, "viewerToken"]) },
+    { method: "POST", path: () => `/api/jobs/x`, params: () => ({ jobId }), options: { json: {} }, expect: projectPage([...MEMBERS, "viewerToken"]) },
+  ],
+  "routes/api.job-cancel.ts": [
+    { method: "GET", path: () => `/api/jobs/x/cancel`, params: () => ({ jobId }), expect: projectPage(UPLOADERS) },
+    { method: "POST", path: () => `/api/jobs/x/cancel`, params: () => ({ jobId }), options: { json: {} }, expect: projectPage(UPLOADERS) },
+  ],
   "routes/api.project-sites-export.ts": [
     { method: "GET", path: (w) => `/api/projects/${w.projectId}/sites/export?format=csv`, params: pid, expect: projectPage(["owner", "lead"]) },
   ],
@@ -132,6 +169,8 @@ const FILES = routeFiles(routes as RouteEntry[]);
 
 let world: World;
 let datasetId: number;
+let reconstructionId: number;
+let jobId: string;
 /** A dataset row to probe (its storage keys point nowhere; deleting it tolerates that). */
 async function makeDataset(w: World): Promise<number> {
   const [d] = await db()
@@ -143,6 +182,15 @@ async function makeDataset(w: World): Promise<number> {
 beforeAll(async () => {
   world = await buildWorld("mx");
   datasetId = await makeDataset(world);
+  // A reconstruction that never ran, with its (queued) job row: enough to probe the gates.
+  const [run] = await db().insert(jobRuns).values({ projectId: world.projectId, kind: "reconstruction", payload: {} }).returning({ id: jobRuns.id });
+  jobId = run.id;
+  const [r] = await db()
+    .insert(reconstructions)
+    .values({ projectId: world.projectId, inputsHash: "probe", params: { agesKa: [12], oceanSides: ["south"], tidalRangeM: 2, streamThresholdKm2: 1 }, engineVersion: "probe", jobRunId: jobId })
+    .returning({ id: reconstructions.id });
+  reconstructionId = r.id;
+  await db().update(jobRuns).set({ payload: { reconstructionId } }).where(eq(jobRuns.id, jobId));
 });
 
 describe("the development outbox", () => {

@@ -1,0 +1,188 @@
+// Reconstructions end to end with the real database, pg-boss and worker processes: upload →
+// reconstruct → the published layers equal the engine run directly; identical inputs reuse the
+// run; a bad-input job fails once with its message; a worker killed mid-run → the job is retried
+// and finishes, and no partial manifest is ever visible.
+Object.assign(process.env, {
+  LOWSTAND_JOB_HEARTBEAT_MS: "300",
+  LOWSTAND_JOB_POLL_MS: "100",
+  LOWSTAND_JOB_STALE_AFTER_S: "2",
+  LOWSTAND_JOB_REAPER_INTERVAL_MS: "500",
+  LOWSTAND_JOB_RETRY_LIMIT: "2",
+  LOWSTAND_JOB_RETRY_DELAY_S: "1",
+  LOWSTAND_JOB_FETCH_INTERVAL_MS: "500",
+  LOWSTAND_WORKER_SHUTDOWN_GRACE_MS: "3000",
+  LOWSTAND_ENGINE_THREADS: "2",
+});
+
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { eq } from "drizzle-orm";
+import { db } from "~/db.server";
+import { datasets, jobRuns, reconstructions, seaLevelCurves } from "~/db/schema";
+import { createApiToken } from "~/auth.server";
+import { store } from "~/storage.server";
+import { readGeoTiff } from "~/terrain/geotiff-read";
+import { writeGeoTiff } from "~/terrain/geotiff-write";
+import { reconstruct, inlineAgeRunner, type LayerOut } from "~/terrain/reconstruct";
+import { defaultGlobalCurve } from "~/terrain/sea-level";
+import { resolveCrs } from "~/terrain/crs";
+import { syntheticGrid } from "../scripts/bench/synthetic-shelf";
+import * as apiDatasets from "~/routes/api.project-datasets";
+import * as apiRecons from "~/routes/api.project-reconstructions";
+import * as apiLayer from "~/routes/api.reconstruction-layer";
+import * as apiJob from "~/routes/api.job";
+import { stopBoss } from "./boss.server";
+import { buildWorld, ORIGIN, type World } from "../tests/support/world";
+import { startWorker, stopWorkers, waitFor, workers } from "../tests/support/workers";
+import type { LowstandLoadContext } from "~/load-context";
+
+let world: World;
+let token: string;
+const ctx: LowstandLoadContext = { clientAddress: "127.0.0.1", requestId: "t" };
+
+async function call(fn: (a: any) => unknown, request: Request, params: Record<string, string>): Promise<Response> {
+  try {
+    const out = await fn({ request, params, context: ctx, url: new URL(request.url), pattern: "" });
+    return out instanceof Response ? out : Response.json(out);
+  } catch (e) {
+    if (e instanceof Response) return e;
+    throw e;
+  }
+}
+
+/** An invented shelf from the engine's own generator, placed in the project's CRS (UTM 33S). */
+function shelfTiff(size: number): Uint8Array {
+  const g = syntheticGrid(size, 7, 50);
+  const crs = resolveCrs(32733);
+  g.spec = { ...g.spec, originX: 480_000, originY: 5_030_000, crs: { epsg: crs.epsg, proj4: crs.proj4 } };
+  return writeGeoTiff(g);
+}
+
+async function upload(bytes: Uint8Array, name: string): Promise<number> {
+  const fd = new FormData();
+  Object.entries({ kind: "bathymetry", name, sign: "elevation_positive_up", datum: "MSL", offset_to_msl_m: "0" }).forEach(([k, v]) => fd.set(k, v));
+  fd.set("file", new Blob([new Uint8Array(bytes)]), `${name}.tif`);
+  const res = await call(apiDatasets.action, new Request(new URL(`/api/projects/${world.projectId}/datasets`, ORIGIN), { method: "POST", body: fd, headers: { Authorization: `Bearer ${token}` } }), { projectId: String(world.projectId) });
+  expect(res.status, await res.clone().text()).toBe(201);
+  return (await res.json()).dataset.id;
+}
+
+async function start(body: Record<string, unknown>) {
+  const res = await call(apiRecons.action, new Request(new URL(`/api/projects/${world.projectId}/reconstructions`, ORIGIN), { method: "POST", body: JSON.stringify(body), headers: { Authorization: `Bearer ${token}`, "Content-Type": "application/json" } }), { projectId: String(world.projectId) });
+  return { status: res.status, body: await res.json() };
+}
+
+const recon = async (id: number) => (await db().select().from(reconstructions).where(eq(reconstructions.id, id)))[0];
+const jobRun = async (id: string) => (await db().select().from(jobRuns).where(eq(jobRuns.id, id)))[0];
+
+let smallId: number;
+beforeAll(async () => {
+  world = await buildWorld("rc");
+  token = (await createApiToken(world.userIds.analyst, "runs")).token;
+  smallId = await upload(shelfTiff(64), "Corrie small shelf");
+});
+
+afterAll(async () => {
+  await stopWorkers();
+  await stopBoss();
+});
+
+describe("a reconstruction", () => {
+  const params = () => ({ bathymetryDatasetId: smallId, agesKa: [14, 10], oceanSides: ["east"], tidalRangeM: 2, streamThresholdKm2: 0.2, name: "Small shelf" });
+
+  it("publishes layers equal to the engine run directly, and identical inputs reuse it", async () => {
+    const first = await start(params());
+    expect(first.status).toBe(202);
+    const id = first.body.reconstruction.id as number;
+    startWorker();
+    const done = await waitFor("publication", async () => {
+      const r = await recon(id);
+      return r.status === "published" ? r : r.status === "failed" ? Promise.reject(new Error(r.error ?? "failed")) : null;
+    }, 60_000);
+    expect(done.layerPrefix).toMatch(new RegExp(`^runs/p${world.projectId}/r${id}/`));
+
+    const job = await call(apiJob.loader, new Request(new URL(`/api/jobs/${first.body.jobId}`, ORIGIN), { headers: { Authorization: `Bearer ${token}` } }), { jobId: first.body.jobId });
+    expect(await job.json()).toMatchObject({ state: "succeeded", progress: 1 });
+
+    // The same computation in this process, from the stored normalised grid.
+    const [d] = await db().select().from(datasets).where(eq(datasets.id, smallId));
+    const seabed = (await readGeoTiff(await store().getBytes(d.derivedKey))).grid;
+    const direct = new Map<string, LayerOut>();
+    await reconstruct(
+      { seabed, seaLevel: { kind: "curve", curve: defaultGlobalCurve() }, agesKa: [14, 10], oceanBoundary: { kind: "sides", sides: ["east"] }, tidalRangeM: 2, streamThresholdKm2: 0.2 },
+      { sink: (l) => void direct.set(`${l.name}@${l.ageKa}`, l), runAges: inlineAgeRunner },
+    );
+    const manifest = done.manifest as { layers: Array<{ name: string; ageKa: number | null }> };
+    expect(manifest.layers.length).toBe(direct.size);
+    for (const l of manifest.layers) {
+      const res = await call(apiLayer.loader, new Request(new URL(`/api/reconstructions/${id}/layers/${l.name}${l.ageKa === null ? "" : `?age=${l.ageKa}`}`, ORIGIN), { headers: { Authorization: `Bearer ${token}` } }), { id: String(id), layer: l.name });
+      expect(res.status, `${l.name}@${l.ageKa}`).toBe(200);
+      const got = (await readGeoTiff(new Uint8Array(await res.arrayBuffer()))).grid.data;
+      const want = direct.get(`${l.name}@${l.ageKa}`)!.data;
+      let differ = 0;
+      for (let i = 0; i < want.length; i++) {
+        const a = got[i];
+        const b = want[i];
+        if (!(a === b || (a !== a && b !== b) || Math.fround(b) === a)) differ++;
+      }
+      expect(differ, `${l.name}@${l.ageKa}: cells that differ`).toBe(0);
+    }
+
+    const again = await start(params());
+    expect(again.status).toBe(200);
+    expect(again.body).toMatchObject({ reused: true, reconstruction: { id } });
+  });
+
+  it("refuses ages outside the curve before any job starts", async () => {
+    const res = await start({ ...params(), agesKa: [200] });
+    expect(res.status).toBe(422);
+  });
+
+  it("fails a job with bad input once, with its message", async () => {
+    const [curve] = await db().insert(seaLevelCurves).values({ projectId: world.projectId, name: "Doomed", points: [{ ageKa: 0, rslM: 0, sigmaM: 0 }, { ageKa: 30, rslM: -120, sigmaM: 5 }] as never }).returning();
+    await stopWorkers(); // nothing picks the job up until the curve is gone
+    const res = await start({ ...params(), curveId: curve.id });
+    expect(res.status).toBe(202);
+    await db().delete(seaLevelCurves).where(eq(seaLevelCurves.id, curve.id));
+    startWorker();
+    const ended = await waitFor("the job to end", async () => {
+      const r = await jobRun(res.body.jobId);
+      return ["succeeded", "failed", "cancelled"].includes(r.state) ? r : null;
+    }, 30_000);
+    expect(ended.state).toBe("failed");
+    expect(ended.attempt).toBe(1);
+    expect(ended.message).toMatch(/sea-level curve was deleted/);
+    expect((await recon(res.body.reconstruction.id)).status).toBe("failed");
+  });
+
+  it("survives a worker killed mid-run: retried, finished, and never a partial manifest", async () => {
+    const bigId = await upload(shelfTiff(384), "Corrie wide shelf");
+    const res = await start({ bathymetryDatasetId: bigId, agesKa: [18, 16, 14, 12, 10, 8], oceanSides: ["east"], tidalRangeM: 2, streamThresholdKm2: 0.5 });
+    expect(res.status).toBe(202);
+    const victim = lastLiveWorker();
+    await waitFor("the run to be under way", async () => {
+      const r = await jobRun(res.body.jobId);
+      return r.state === "running" && r.fraction > 0.05 ? r : null;
+    }, 60_000);
+    victim.proc.kill("SIGKILL");
+    await victim.exited;
+    const mid = await recon(res.body.reconstruction.id);
+    expect(mid.manifest).toBeNull();
+    expect(mid.status).toBe("running");
+
+    startWorker();
+    const done = await waitFor("publication after the retry", async () => {
+      const r = await recon(res.body.reconstruction.id);
+      expect(r.status === "published" || r.manifest === null).toBe(true); // never a manifest before publication
+      return r.status === "published" ? r : null;
+    }, 120_000);
+    const run = await jobRun(res.body.jobId);
+    expect(run.attempt).toBeGreaterThan(1);
+    expect(done.layerPrefix).toContain(`-a${run.attempt}`);
+  });
+});
+
+function lastLiveWorker() {
+  const alive = workers.filter((w) => w.proc.exitCode === null && w.proc.signalCode === null);
+  if (!alive.length) throw new Error("no worker is running");
+  return alive[alive.length - 1];
+}
