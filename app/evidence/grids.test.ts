@@ -195,7 +195,7 @@ describe("bathymetry from XYZ points, gridded on import", () => {
 
   it("caps the number of points", async () => {
     const text = Array.from({ length: 10 }, (_, i) => `${495000 + i * 10} 6680000 ${i}`).join("\n");
-    const e = await refusal(parseEvidence("bathymetry", utf8(text), opts({ fileName: "p.xyz", declaredEpsg: PROJECT_EPSG, analysisCellSizeM: 10, limits: { maxRows: 9 } })));
+    const e = await refusal(parseEvidence("bathymetry", utf8(text), opts({ fileName: "p.xyz", declaredEpsg: PROJECT_EPSG, analysisCellSizeM: 10, limits: { maxPoints: 9 } })));
     expect(e.message).toMatch(/more than 9 points, over the limit/);
   });
 

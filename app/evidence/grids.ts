@@ -165,8 +165,7 @@ export async function parseGridEvidence(
     nonFiniteCount = r.nonFiniteCount;
     Object.assign(summary, { fileNodataValue: r.nodataValue, crsSource: "declared" });
   } else {
-    const text = decodeText(bytes, "XYZ", warnings);
-    const pts = parseXyz(text, limits.maxRows);
+    const pts = parseXyz(bytes, limits.maxPoints ?? limits.maxRows);
     if (opts.declaredEpsg === undefined) {
       throw new EvidenceError("an XYZ file carries no CRS: declare the EPSG code of its x and y when uploading");
     }

@@ -67,18 +67,21 @@ export type EvidenceFormat = "geotiff" | "esri-ascii" | "xyz" | "csv" | "geojson
 export interface EvidenceLimits {
   /** cells of a grid (declared in a header, or made by gridding XYZ points) */
   maxCells: number;
-  /** rows of a CSV, points of an XYZ file, records of an AGS4 file */
+  /** rows of a CSV, records of an AGS4 file (a CSV row costs far more memory than an XYZ point) */
   maxRows: number;
+  /** points of an XYZ file (held in typed arrays: 24 bytes each) */
+  maxPoints?: number;
   /** vertices over all features of a vector file */
   maxVertices: number;
   /** features of a vector file */
   maxFeatures: number;
 }
 
-/** 8192² cells (6.7e7: 268 MB as Float32); 10 million rows; 5 million vertices; 200 000 features. */
-export const DEFAULT_LIMITS: EvidenceLimits = {
+/** 8192² cells (6.7e7: 268 MB as Float32); 2 million CSV rows; 20 million XYZ points; 5 million vertices; 200 000 features. */
+export const DEFAULT_LIMITS: Required<EvidenceLimits> = {
   maxCells: 8192 * 8192,
-  maxRows: 10_000_000,
+  maxRows: 2_000_000,
+  maxPoints: 20_000_000,
   maxVertices: 5_000_000,
   maxFeatures: 200_000,
 };
@@ -143,6 +146,6 @@ export interface ParsedEvidence {
   warnings: string[];
 }
 
-export function resolveLimits(l?: Partial<EvidenceLimits>): EvidenceLimits {
+export function resolveLimits(l?: Partial<EvidenceLimits>): Required<EvidenceLimits> {
   return { ...DEFAULT_LIMITS, ...(l ?? {}) };
 }

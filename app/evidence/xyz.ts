@@ -24,20 +24,60 @@ function isSep(c: number): boolean {
   return c === 32 || c === 9 || c === 44 || c === 59;
 }
 
+const POW10 = Float64Array.from({ length: 23 }, (_, k) => 10 ** k); // exact doubles up to 1e22
+const latin1 = new TextDecoder("latin1");
+
 /**
- * Parses XYZ text: blank lines and `#` comments skipped; a first line that is not numbers is taken as
- * a header; a z of `nan` leaves the point out (counted); bad numbers and short lines are problems
- * reported by line (up to 20 at once). Throws EvidenceError over `maxRows` points. O(characters),
- * typed arrays only (a few million points are fine).
+ * A decimal number from bytes [a, b): sign, digits, optional fraction. With at most 15 significant
+ * digits, integer ÷ power of ten is one correctly rounded division of two exact doubles, so the result
+ * equals Number(text); other forms (exponents, long mantissas, inf/nan) go through Number(). NaN if
+ * not a number.
  */
-export function parseXyz(text: string, maxRows: number): XyzPoints {
-  const len = text.length;
-  let cap = Math.max(1024, Math.min(maxRows, Math.ceil(len / 16)));
+function parseDecimal(bytes: Uint8Array, a: number, b: number): number {
+  let i = a;
+  let neg = false;
+  if (bytes[i] === 45 || bytes[i] === 43) {
+    neg = bytes[i] === 45;
+    i++;
+  }
+  let m = 0;
+  let digitChars = 0;
+  let significant = 0;
+  let frac = 0;
+  let seenDot = false;
+  for (; i < b; i++) {
+    const c = bytes[i];
+    if (c >= 48 && c <= 57) {
+      digitChars++;
+      m = m * 10 + (c - 48);
+      if (m > 0 || seenDot) significant++;
+      if (seenDot) frac++;
+    } else if (c === 46 && !seenDot) seenDot = true;
+    else break;
+  }
+  if (i === b && digitChars > 0 && significant <= 15 && frac <= 22) {
+    const v = m / POW10[frac];
+    return neg ? -v : v;
+  }
+  const t = latin1.decode(bytes.subarray(a, b));
+  return /^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$/.test(t) ? Number(t) : NaN;
+}
+
+/**
+ * Parses XYZ bytes: blank lines and `#` comments skipped; a first line that is not numbers is taken
+ * as a header; a z of `nan` leaves the point out (counted); bad numbers and short lines are problems
+ * reported by line (up to 20 at once). Works on the bytes, not a decoded string (a file of tens of
+ * millions of points is longer than a JavaScript string may be). Throws EvidenceError over
+ * `maxPoints`. O(bytes), typed arrays only.
+ */
+export function parseXyz(bytes: Uint8Array, maxPoints: number): XyzPoints {
+  const len = bytes.length;
+  let cap = Math.max(1024, Math.min(maxPoints, Math.ceil(len / 16)));
   let x = new Float64Array(cap);
   let y = new Float64Array(cap);
   let z = new Float64Array(cap);
   let n = 0;
-  let pos = 0;
+  let pos = bytes[0] === 0xef && bytes[1] === 0xbb && bytes[2] === 0xbf ? 3 : 0;
   let line = 0;
   let headerSkipped = false;
   let seenData = false;
@@ -47,39 +87,39 @@ export function parseXyz(text: string, maxRows: number): XyzPoints {
   const v = [0, 0, 0];
   while (pos < len) {
     line++;
-    let end = text.indexOf("\n", pos);
+    let end = bytes.indexOf(10, pos);
     if (end < 0) end = len;
     let p = pos;
-    while (p < end && (text.charCodeAt(p) === 32 || text.charCodeAt(p) === 9)) p++;
+    while (p < end && (bytes[p] === 32 || bytes[p] === 9)) p++;
     const lineStart = pos;
     pos = end + 1;
-    if (p >= end || text.charCodeAt(p) === 13 || text.charCodeAt(p) === 35) continue; // blank or comment
+    if (p >= end || bytes[p] === 13 || bytes[p] === 35) continue; // blank or comment
     let k = 0;
     let bad = "";
     let noValue = false;
     while (p < end) {
-      const c = text.charCodeAt(p);
+      const c = bytes[p];
       if (isSep(c) || c === 13) {
         p++;
         continue;
       }
       let e = p;
-      while (e < end && !isSep(text.charCodeAt(e)) && text.charCodeAt(e) !== 13) e++;
+      while (e < end && !isSep(bytes[e]) && bytes[e] !== 13) e++;
       if (k < 3) {
-        const tok = text.slice(p, e);
-        const num = Number(tok);
+        const num = parseDecimal(bytes, p, e);
         if (Number.isFinite(num)) v[k] = num;
-        else if (k === 2 && /^[+-]?nan$/i.test(tok)) noValue = true;
-        else if (bad === "") bad = tok;
+        else {
+          const tok = latin1.decode(bytes.subarray(p, e));
+          if (k === 2 && /^[+-]?nan$/i.test(tok)) noValue = true;
+          else if (bad === "") bad = tok;
+        }
       } else extraColumns = true;
       k++;
       p = e;
     }
-    if (!seenData && bad !== "" ) {
-      if (!headerSkipped) {
-        headerSkipped = true;
-        continue;
-      }
+    if (!seenData && bad !== "" && !headerSkipped) {
+      headerSkipped = true;
+      continue;
     }
     seenData = true;
     if (bad !== "") {
@@ -87,14 +127,15 @@ export function parseXyz(text: string, maxRows: number): XyzPoints {
       continue;
     }
     if (k < 3) {
-      problems.add(`line ${line}: ${k} value${k === 1 ? "" : "s"} ("${text.slice(lineStart, end).trim().slice(0, 40)}"), need x y z`, { row: line });
+      const text = latin1.decode(bytes.subarray(lineStart, Math.min(end, lineStart + 40))).trim();
+      problems.add(`line ${line}: ${k} value${k === 1 ? "" : "s"} ("${text}"), need x y z`, { row: line });
       continue;
     }
     if (noValue) {
       skippedNoValue++;
       continue;
     }
-    if (n >= maxRows) throw new EvidenceError(`the XYZ file has more than ${maxRows} points, over the limit: thin it or grid it first`, { row: line });
+    if (n >= maxPoints) throw new EvidenceError(`the XYZ file has more than ${maxPoints} points, over the limit: thin it or grid it first`, { row: line });
     if (n === cap) {
       cap *= 2;
       const nx = new Float64Array(cap);
