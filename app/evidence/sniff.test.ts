@@ -17,6 +17,7 @@ describe("sniffFormat — from the first bytes, the name only to break ties", ()
     expect(sniffFormat(utf8("ncols 4\nnrows 3\n"), "a.txt")).toBe("esri-ascii");
     expect(sniffFormat(utf8("NCOLS 4\r\n"), "a.txt")).toBe("esri-ascii");
     expect(sniffFormat(utf8('"GROUP","PROJ"\n'), "a.txt")).toBe("ags4");
+    expect(sniffFormat(utf8("GROUP,NAME\n1,a\n"), "a.csv")).toBe("csv");
     expect(sniffFormat(utf8("495000.5 6680000 -42.1\n"), "points.txt")).toBe("xyz");
     expect(sniffFormat(utf8("495000.5,6680000,-42.1\n"), "points.csv")).toBe("xyz");
     expect(sniffFormat(utf8("x;y;site_id\n1;2;a\n"), "sites.csv")).toBe("csv");

@@ -69,7 +69,7 @@ export function sniffFormat(head: Uint8Array, fileName: string): EvidenceFormat 
   const lower = fileName.toLowerCase();
   if (line.startsWith("{") || line.startsWith("[")) return "geojson";
   if (/^(ncols|nrows|xllcorner|xllcenter|yllcorner|yllcenter|cellsize)\b/i.test(line)) return "esri-ascii";
-  if (/^"?GROUP"?\s*,\s*"?[A-Z0-9]{4}"?/.test(line) || /^"\*\*PROJ"/.test(line)) return "ags4";
+  if (/^"GROUP"\s*,\s*"[A-Z0-9]{4}"/.test(line) || /^"\*\*PROJ"/.test(line)) return "ags4"; // AGS4 quotes every field
   const tokens = line.split(/[\s,;]+/).filter((t) => t !== "");
   if (tokens.length >= 3 && tokens.every((t) => NUM.test(t))) return "xyz";
   if (lower.endsWith(".xyz")) return "xyz";
