@@ -242,6 +242,21 @@ describe("a worker process", () => {
     expect(await queueJob(id)).toMatchObject({ state: "completed", retryCount: 1 });
   });
 
+  it("ends a killed worker's job as cancelled, not retried, when its user had asked to cancel it", async () => {
+    const id = await sleepJob({ steps: 100, stepMs: 100 });
+    await waitFor("the job to run", async () => {
+      const r = await run(id);
+      return r.state === "running" && r.fraction > 0;
+    });
+    worker.proc.kill("SIGKILL");
+    await worker.exited;
+    expect(await requestCancel(id, starter)).toBe("requested"); // still "running": nobody polls the flag now
+    worker = startWorker();
+    const r = await ended(id);
+    expect(r).toMatchObject({ state: "cancelled", attempt: 1, message: CANCELLED_MESSAGE });
+    expect(await queueJob(id)).toMatchObject({ state: "cancelled", retryCount: 0 });
+  });
+
   it("on SIGTERM hands its running job back and exits cleanly; another worker finishes it", async () => {
     const id = await sleepJob({ steps: 20, stepMs: 100 });
     await waitFor("the job to run", async () => {

@@ -8,7 +8,7 @@ import { db } from "../app/db.server";
 import { jobRuns } from "../app/db/schema";
 import { kickMailDispatcher } from "../app/mail.server";
 import { boss, bossDbFor, type JobSettings } from "./boss.server";
-import { queueJobEndedMail } from "./notify";
+import { CANCELLED_MESSAGE, queueJobEndedMail } from "./notify";
 
 /** Any fixed number shared by every process: the key of the reaper's advisory lock. */
 const REAPER_LOCK_KEY = 7_007_001;
@@ -17,8 +17,8 @@ export interface ReapedRun {
   runId: string;
   kind: string;
   attempt: number;
-  /** What became of the run: retried later, failed for good, or (its end was already recorded) just the queue job closed. */
-  action: "retry" | "failed" | "closed";
+  /** What became of the run: retried later, failed for good, cancelled (as its user had asked), or (its end was already recorded) just the queue job closed. */
+  action: "retry" | "failed" | "cancelled" | "closed";
 }
 
 /**
@@ -35,8 +35,8 @@ export async function reapStaleJobs(settings: Pick<JobSettings, "staleAfterS">):
   await db().transaction(async (tx) => {
     const lock = await tx.execute<{ ok: boolean }>(sql`select pg_try_advisory_xact_lock(${REAPER_LOCK_KEY}) as ok`);
     if (!lock.rows[0]?.ok) return; // another process is reaping right now
-    const stale = await tx.execute<{ run_id: string; kind: string; state: string; attempt: number; queue_job_id: string; retry_count: number; retry_limit: number }>(sql`
-      select r.id as run_id, r.kind, r.state, r.attempt, j.id::text as queue_job_id, j.retry_count, j.retry_limit
+    const stale = await tx.execute<{ run_id: string; kind: string; state: string; cancel_requested: boolean; queue_job_id: string; retry_count: number; retry_limit: number }>(sql`
+      select r.id as run_id, r.kind, r.state, r.cancel_requested, j.id::text as queue_job_id, j.retry_count, j.retry_limit
         from pgboss.job j
         join ${jobRuns} r on r.queue_job_id = j.id::text and r.kind = j.name
        where j.state = 'active'
@@ -51,6 +51,14 @@ export async function reapStaleJobs(settings: Pick<JobSettings, "staleAfterS">):
         // The end was recorded but the queue job was left active: close it, run nothing again.
         await b.complete(s.kind, s.queue_job_id, { runId: s.run_id, outcome: `run already ${s.state}` }, { db: bdb });
         reaped.push({ runId: s.run_id, kind: s.kind, attempt: lostAttempt, action: "closed" });
+        continue;
+      }
+      if (s.cancel_requested) {
+        // Its user asked it to stop anyway: end it as cancelled rather than retry it.
+        await b.cancel(s.kind, s.queue_job_id, { db: bdb });
+        const [run] = await tx.update(jobRuns).set({ state: "cancelled", message: CANCELLED_MESSAGE, finishedAt: new Date() }).where(eq(jobRuns.id, s.run_id)).returning();
+        mailed = (await queueJobEndedMail(tx, run, "cancelled", CANCELLED_MESSAGE)) || mailed;
+        reaped.push({ runId: s.run_id, kind: s.kind, attempt: lostAttempt, action: "cancelled" });
         continue;
       }
       await b.fail(s.kind, s.queue_job_id, { runId: s.run_id, message: "the worker stopped sending heartbeats" }, { db: bdb });

@@ -179,10 +179,11 @@ export async function runAttempt(def: JobDefinition<any>, job: QueueJob, setting
           if (!row || row.attempt !== attempt || row.state !== "running") live.lost = true;
           else live.cancelRequested = row.cancelRequested;
         }
-        if (live.lost) log(job, runId, attempt, "the run was taken from this attempt (reaped, deleted or ended elsewhere); stopping");
+        if (live.lost && !stop.signal.aborted) log(job, runId, attempt, "the run was taken from this attempt (reaped, deleted or ended elsewhere); stopping");
         checkStop();
       } catch (err) {
-        // A database hiccup: keep going; a missed heartbeat only matters if it lasts.
+        // A database hiccup: keep going (and write the progress next time); a missed heartbeat only matters if it lasts.
+        live.dirty = true;
         log(job, runId, attempt, "heartbeat failed", err);
       } finally {
         inFlight = null;
