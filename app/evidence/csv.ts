@@ -64,7 +64,7 @@ function quoteSnippet(s: string): string {
  */
 export function parseCsv(text: string, opts: { maxRows: number; delimiter?: Delimiter; what?: string }): CsvTable {
   const what = opts.what ?? "CSV";
-  let t = text.charCodeAt(0) === 0xfeff ? text.slice(1) : text;
+  const t = text.charCodeAt(0) === 0xfeff ? text.slice(1) : text;
   const n = t.length;
   let i = 0;
   let line = 1;
@@ -163,7 +163,6 @@ export function parseCsv(text: string, opts: { maxRows: number; delimiter?: Deli
     lines.push(recLine);
   }
   if (header === null) throw new EvidenceError(`the ${what} file has no header row`);
-  t = "";
   return { header, keys: header.map(normaliseName), delimiter, records, lines, headerLine };
 }
 

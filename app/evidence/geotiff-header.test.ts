@@ -3,7 +3,7 @@ import { geotiffHeaderCheck } from "./geotiff-header";
 import { EvidenceError } from "./types";
 import { bareTiff, gridSpec, terrainFixture, tiff } from "./test-support";
 
-const WIDTH = 256, HEIGHT = 257, BITS = 258, COMPRESSION = 259, PHOTOMETRIC = 262, SPP = 277, TILE_W = 322, FORMAT = 339;
+const WIDTH = 256, HEIGHT = 257, BITS = 258, COMPRESSION = 259, PHOTOMETRIC = 262, SPP = 277, FORMAT = 339;
 
 describe("geotiffHeaderCheck — the first IFD only, before any pixel is decoded", () => {
   it("reads size, bands, sample type and compression of files written by GDAL and by our writer", () => {
