@@ -21,6 +21,12 @@ export async function findLayer(reconstructionId: number, name: string, ageParam
   return { r, manifest, layer, key, ageKa };
 }
 
-export async function layerGrid(key: string) {
+/** The layer's values (NaN where nodata). A layer with no valid cell (e.g. no lake at that age) reads as all NaN. */
+export async function layerGrid(key: string, manifest: Manifest, layer: ManifestLayer) {
+  if (layer.stats.validCount === 0) {
+    const g = manifest.grid;
+    const spec = { width: g.width, height: g.height, originX: g.originX, originY: g.originY, cellSizeX: g.cellSizeX, cellSizeY: g.cellSizeY, crs: null };
+    return { spec, data: new Float32Array(g.width * g.height).fill(NaN) };
+  }
   return (await readGeoTiff(await store().getBytes(key))).grid;
 }

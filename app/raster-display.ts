@@ -51,14 +51,22 @@ function viridis(t: number): [number, number, number] {
   return [Math.round(a[0] + (b[0] - a[0]) * f), Math.round(a[1] + (b[1] - a[1]) * f), Math.round(a[2] + (b[2] - a[2]) * f)];
 }
 
-/** Land/water classes (flooding.ts): land, sea, intertidal, lake. */
-const CLASS_COLOURS: Record<number, [number, number, number]> = { 0: [196, 182, 150], 1: [63, 106, 140], 2: [127, 157, 180], 3: [110, 160, 190] };
+/** Land/water classes (flooding.ts): land in sand, sea and lake in muted blues (look.md). */
+export const LAND_CLASS_COLOURS: Record<number, [number, number, number]> = { 0: [196, 182, 150], 1: [63, 106, 140], 2: [127, 157, 180], 3: [110, 160, 190] };
+/** Other categories and masks: a colour-blind-safe qualitative set (Okabe & Ito 2008). */
+const CATEGORY_COLOURS: [number, number, number][] = [[230, 159, 0], [86, 180, 233], [0, 158, 115], [240, 228, 66], [0, 114, 178], [213, 94, 0], [204, 121, 167], [120, 120, 120]];
 
 /**
- * An RGBA preview at most `maxSide` cells on its longer side (nearest sample), continuous values
- * in viridis between min and max, class layers in our class colours; nodata transparent.
+ * An RGBA preview at most `maxSide` cells on its longer side (nearest sample): continuous values
+ * in viridis between min and max, classes in the given colours or a qualitative set; nodata transparent.
  */
-export function previewRgba(values: ArrayLike<number>, width: number, height: number, nodata: number | "NaN", opts: { classes?: boolean; maxSide?: number } = {}) {
+export function previewRgba(
+  values: ArrayLike<number>,
+  width: number,
+  height: number,
+  nodata: number | "NaN",
+  opts: { classes?: Record<number, [number, number, number]> | "categories"; maxSide?: number } = {},
+) {
   const maxSide = opts.maxSide ?? 256;
   const step = Math.max(1, Math.ceil(Math.max(width, height) / maxSide));
   const w = Math.ceil(width / step);
@@ -81,7 +89,12 @@ export function previewRgba(values: ArrayLike<number>, width: number, height: nu
       const v = values[r * step * width + c * step];
       const o = (r * w + c) * 4;
       if (isNodata(v)) continue;
-      const rgb = opts.classes ? (CLASS_COLOURS[v] ?? [200, 200, 200]) : viridis(max > min ? (v - min) / (max - min) : 0.5);
+      const rgb =
+        opts.classes === "categories"
+          ? CATEGORY_COLOURS[Math.abs(Math.round(v)) % CATEGORY_COLOURS.length]
+          : opts.classes
+            ? (opts.classes[v] ?? [200, 200, 200])
+            : viridis(max > min ? (v - min) / (max - min) : 0.5);
       rgba[o] = rgb[0];
       rgba[o + 1] = rgb[1];
       rgba[o + 2] = rgb[2];

@@ -100,6 +100,8 @@ describe("a reconstruction", () => {
     }, 60_000);
     expect(done.layerPrefix).toMatch(new RegExp(`^runs/p${world.projectId}/r${id}/`));
 
+    // The run's own end is written just after the handler returns: wait for it too.
+    await waitFor("the job to be marked succeeded", async () => (await jobRun(first.body.jobId)).state === "succeeded");
     const job = await call(apiJob.loader, new Request(new URL(`/api/jobs/${first.body.jobId}`, ORIGIN), { headers: { Authorization: `Bearer ${token}` } }), { jobId: first.body.jobId });
     expect(await job.json()).toMatchObject({ state: "succeeded", progress: 1 });
 

@@ -16,7 +16,6 @@ import { defaultGlobalCurve, type SeaLevelCurve } from "../app/terrain/sea-level
 import type { SurveyLine } from "../app/terrain/survey-lines";
 import { attemptPrefix, layerFileName, markReconstructionEnded, publishManifest, reconstructionParams } from "../app/reconstructions.server";
 import { defineJob, isUserError, JobUserError } from "./wrapper";
-import { TerrainCancelled } from "../app/terrain/grid";
 
 export interface ReconstructionPayload {
   reconstructionId: number;
@@ -106,9 +105,11 @@ export const reconstructionJob = defineJob<ReconstructionPayload>("reconstructio
     written.length = 0;
     return { reconstructionId: rec.id, layers: manifest.layers.length };
   } catch (err) {
-    const last = ctx.attempt >= ctx.maxAttempts;
-    if (err instanceof TerrainCancelled || ctx.isCancelled()) await markReconstructionEnded(rec.id, ctx.runId, "cancelled", "Cancelled on request.");
-    else if (isUserError(err) || last) await markReconstructionEnded(rec.id, ctx.runId, "failed", (err as Error).message);
+    // Record only what is certain here: a user's cancellation, or their bad input. A crash is
+    // retried, and a run given up reads as failed from its job (effectiveStatus) with the job's
+    // message, which does not expose our internals.
+    if (ctx.stopReason() === "cancel") await markReconstructionEnded(rec.id, ctx.runId, "cancelled", "Cancelled on request.");
+    else if (isUserError(err)) await markReconstructionEnded(rec.id, ctx.runId, "failed", (err as Error).message);
     throw err;
   } finally {
     // Layers of an attempt that did not publish are never read; remove them now.

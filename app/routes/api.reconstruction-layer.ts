@@ -12,7 +12,7 @@ import type { Route } from "./+types/api.reconstruction-layer";
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { reconstructionId } = await requireReconstructionAccess(request, params.id, "project.read");
   const url = new URL(request.url);
-  const { layer, key, ageKa } = await findLayer(reconstructionId, params.layer, url.searchParams.get("age"));
+  const { layer, key, ageKa, manifest } = await findLayer(reconstructionId, params.layer, url.searchParams.get("age"));
   const display = url.searchParams.get("display");
   if (display === null) {
     const bytes = await store().getBytes(key);
@@ -20,7 +20,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     return new Response(new Uint8Array(bytes), { headers: { "Content-Type": "image/tiff", "Content-Disposition": `attachment; filename="${file}"`, "Cache-Control": "private, max-age=3600" } });
   }
   if (display !== "8" && display !== "16") return apiError(400, "bad_display", "display must be 8 or 16 (bits).");
-  const grid = await layerGrid(key);
+  const grid = await layerGrid(key, manifest, layer);
   const q = quantise(grid.data, "NaN", display === "8" ? 8 : 16);
   const body = new Uint8Array(q.data.buffer as ArrayBuffer, q.data.byteOffset, q.data.byteLength);
   return new Response(body, {

@@ -25,3 +25,7 @@ afterAll(async () => {
   await dropTestDatabase(name);
   await fs.rm(scratch, { recursive: true, force: true });
 });
+
+// Mail goes nowhere unless a test starts its own catcher (tests/support/mail.ts): never to a
+// catcher that a running `npm start` has on the default port.
+process.env.SMTP_URL = "smtp://127.0.0.1:9";

@@ -1,0 +1,124 @@
+// The invented demonstration evidence (design §11): a procedurally generated shelf, sub-bottom
+// picks along invented survey lines, a few invented sites and cores, two lease blocks, a
+// development footprint, an exclusion, the survey area and sea-level index points. Everything is
+// made up and placed in WGS 84 / UTM zone 33S over open Southern Ocean, far from any real coast.
+// Each file goes through the same readers as a user's upload.
+import proj4 from "proj4";
+import { writeGeoTiff } from "../../app/terrain/geotiff-write";
+import { resolveCrs } from "../../app/terrain/crs";
+import { syntheticGrid } from "../bench/synthetic-shelf";
+
+export const DEMO_EPSG = 32733;
+export const DEMO_ORIGIN: [number, number] = [480_000, 5_030_000];
+export const DEMO_SIZE = 512;
+export const DEMO_CELL_M = 25;
+
+export interface DemoFile {
+  kind: string;
+  name: string;
+  fileName: string;
+  fields?: Record<string, string>;
+  bytes: Uint8Array;
+}
+
+const text = (s: string) => new TextEncoder().encode(s);
+
+/** The demo files, deterministic: the same bytes every time. */
+export function demoFiles(): DemoFile[] {
+  const crs = resolveCrs(DEMO_EPSG);
+  const grid = syntheticGrid(DEMO_SIZE, 20260, DEMO_CELL_M);
+  grid.spec = { ...grid.spec, originX: DEMO_ORIGIN[0], originY: DEMO_ORIGIN[1], crs: { epsg: crs.epsg, proj4: crs.proj4 } };
+  const [x0, y1] = DEMO_ORIGIN;
+  const x1 = x0 + DEMO_SIZE * DEMO_CELL_M;
+  const y0 = y1 - DEMO_SIZE * DEMO_CELL_M;
+  const toLonLat = (x: number, y: number) => proj4(crs.proj4, "WGS84", [x, y]).map((v) => Math.round(v * 1e7) / 1e7);
+  const ring = (xa: number, ya: number, xb: number, yb: number) => [[xa, ya], [xb, ya], [xb, yb], [xa, yb], [xa, ya]].map(([x, y]) => toLonLat(x, y));
+  const fc = (features: unknown[]) => text(JSON.stringify({ type: "FeatureCollection", features }));
+
+  // Four east–west sub-bottom lines of the invented 2025 Velmar chirp survey.
+  const lineYs = [5_027_200, 5_024_300, 5_021_400, 5_018_600];
+  const lines: string[] = ["line_id,fix_id,x,y,system,vertical_resolution_m"];
+  const picks: string[] = ["line_id,fix_id,x,y,depth_below_seabed_m"];
+  lineYs.forEach((y, li) => {
+    const id = `VC25-${li + 1}`;
+    for (let x = x0 + 400, fix = 1000; x <= x1 - 400; x += 100, fix += 2) {
+      const yy = y + 40 * Math.sin(x / 700 + li);
+      lines.push(`${id},${fix},${x.toFixed(1)},${yy.toFixed(1)},chirp,0.3`);
+      const depth = Math.max(0.2, 2.2 + 1.3 * Math.sin(x / 950 + li * 0.7) + 0.6 * Math.cos(x / 330));
+      picks.push(`${id},${fix},${x.toFixed(1)},${yy.toFixed(1)},${depth.toFixed(2)}`);
+    }
+  });
+
+  const sites = [
+    "site_id,x,y,precision_m,kind,context,discovery_method,cal_bp_from,cal_bp_to,confidence,sensitivity,community",
+    "VEL-001,483410,5026150,5,shell midden,in_situ,vibrocore,10900,10400,high,normal,",
+    "VEL-002,485020,5022880,10,lithic scatter,in_situ,grab sample,11800,11200,medium,normal,",
+    "VEL-003,486760,5020330,5,wooden stake weir,in_situ,diver survey,9600,9300,high,restricted,Velmar shore families",
+    "VEL-004,482150,5019420,25,hearth,in_situ,vibrocore,12400,11900,medium,normal,",
+    "VEL-005,488300,5025600,250,worked flint,trawled,fishing catch,,,low,normal,",
+    "VEL-006,484900,5027900,100,antler tool,derived,beach find,,,low,normal,",
+  ].join("\n");
+
+  const cores = [
+    "core_id,x,y,water_depth_m,penetration_m,recovery_m,horizon_reached,preserved_land_surface,archaeological_indicators,unit_top_m,unit_base_m,unit_description,lab_code,c14_age,c14_sigma,material,sample_depth_m",
+    "VC25-07,483380,5026120,38.5,4.2,3.6,yes,yes,charcoal; burnt flint,0,1.9,shelly sand,,,,,",
+    "VC25-07,,,,,,,,,1.9,2.6,peat,VLM-2281,9420,45,peat,2.2",
+    "VC25-07,,,,,,,,,2.6,4.2,grey clay with roots,,,,,",
+    "VC25-11,487900,5023300,52.0,3.0,2.4,yes,yes,none,0,2.1,medium sand,,,,,",
+    "VC25-11,,,,,,,,,2.1,3.0,palaeosol,VLM-2290,10150,50,organic silt,2.3",
+    "VC25-14,490600,5019800,71.3,1.4,1.1,refused,unknown,none,0,1.4,gravel lag,,,,,",
+    "VC25-16,481900,5021700,31.2,5.1,4.4,yes,no,none,0,4.1,stratified sand,,,,,",
+    "VC25-16,,,,,,,,,4.1,5.1,truncated till surface,,,,,",
+  ].join("\n");
+
+  const indexPoints = [
+    "id,age_ka,age_sigma_ka,height_m,height_sigma_m,kind,lab_code,indicator",
+    "VIP-1,9.42,0.08,-41.8,1.5,index_point,VLM-2281,basal peat",
+    "VIP-2,10.15,0.10,-49.6,2.0,terrestrial_limiting,VLM-2290,palaeosol",
+    "VIP-3,8.20,0.12,-18.9,1.2,index_point,VLM-2302,salt-marsh peat",
+    "VIP-4,11.60,0.15,-58.0,3.0,marine_limiting,VLM-2311,shell hash",
+  ].join("\n");
+
+  return [
+    { kind: "bathymetry", name: "Velmar multibeam 2025 (25 m)", fileName: "velmar-multibeam-25m.tif", fields: { sign: "elevation_positive_up", datum: "MSL", offset_to_msl_m: "0" }, bytes: writeGeoTiff(grid) },
+    { kind: "survey_lines", name: "Velmar chirp lines 2025", fileName: "velmar-chirp-lines.csv", bytes: text(lines.join("\n")) },
+    { kind: "horizon_picks", name: "Transgressive surface picks", fileName: "velmar-ts-picks.csv", bytes: text(picks.join("\n")) },
+    { kind: "known_sites", name: "Velmar known sites", fileName: "velmar-sites.csv", bytes: text(sites) },
+    { kind: "cores", name: "Velmar vibrocores 2025", fileName: "velmar-cores.csv", bytes: text(cores) },
+    { kind: "sea_level_index_points", name: "Velmar index points", fileName: "velmar-index-points.csv", bytes: text(indexPoints) },
+    {
+      kind: "survey_area",
+      name: "Velmar survey area",
+      fileName: "velmar-survey-area.geojson",
+      bytes: fc([{ type: "Feature", properties: { name: "Velmar 2025 survey area" }, geometry: { type: "Polygon", coordinates: [ring(x0 + 300, y0 + 300, x1 - 300, y1 - 300)] } }]),
+    },
+    {
+      kind: "lease_blocks",
+      name: "Offshore lease blocks",
+      fileName: "velmar-lease-blocks.geojson",
+      bytes: fc([
+        { type: "Feature", properties: { name: "Block VM-12" }, geometry: { type: "Polygon", coordinates: [ring(481_000, 5_019_000, 486_000, 5_025_000)] } },
+        { type: "Feature", properties: { name: "Block VM-13" }, geometry: { type: "Polygon", coordinates: [ring(486_000, 5_019_000, 491_000, 5_025_000)] } },
+      ]),
+    },
+    {
+      kind: "development_footprint",
+      name: "Velmar Bank wind farm, phase 1",
+      fileName: "velmar-wind-phase1.geojson",
+      bytes: fc([
+        ...[[487_200, 5_020_200], [488_400, 5_020_200], [487_200, 5_021_600], [488_400, 5_021_600], [489_600, 5_021_600]].map(([x, y], i) => ({
+          type: "Feature",
+          properties: { asset_id: `T${i + 1}`, kind: "turbine monopile", impact_depth_m: 32, buffer_m: 50 },
+          geometry: { type: "Point", coordinates: toLonLat(x, y) },
+        })),
+        { type: "Feature", properties: { asset_id: "EC-1", kind: "export cable", impact_depth_m: 2.5, buffer_m: 25 }, geometry: { type: "LineString", coordinates: [[487_200, 5_020_200], [484_000, 5_019_600], [480_600, 5_019_500]].map(([x, y]) => toLonLat(x, y)) } },
+      ]),
+    },
+    {
+      kind: "exclusions",
+      name: "Known wreck",
+      fileName: "velmar-wreck.geojson",
+      bytes: fc([{ type: "Feature", properties: { kind: "wreck", buffer_m: 100, name: "Unnamed steel wreck" }, geometry: { type: "Point", coordinates: toLonLat(489_050, 5_023_750) } }]),
+    },
+  ];
+}
