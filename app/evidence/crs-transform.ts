@@ -3,7 +3,7 @@
  * record of the transformation used (design §2: "the transformation used is recorded").
  */
 import proj4 from "proj4";
-import { type Crs, resolveCrs } from "../terrain/crs";
+import { type Crs, crsFromWkt, resolveCrs } from "../terrain/crs";
 import { TerrainInputError } from "../terrain/grid";
 import { EvidenceError } from "./types";
 
@@ -47,6 +47,21 @@ export function sourceFromEpsg(epsg: number): SourceCrs {
   if (near) return { label: `EPSG:${epsg} (${near}, treated as WGS 84, within about a metre)`, proj4: WGS84.proj4, epsg, geographic: true };
   const c = projectCrs(epsg);
   return { label: `EPSG:${epsg}`, proj4: c.proj4, epsg, geographic: false };
+}
+
+/**
+ * A source CRS from WKT (a .prj or gpkg_spatial_ref_sys definition): WGS 84 and its near-equivalents
+ * by their EPSG code or name, else a projected CRS in metres through terrain/crs.ts crsFromWkt.
+ */
+export function sourceFromWkt(wkt: string): SourceCrs {
+  const text = wkt.trim();
+  const re = /(?:AUTHORITY|ID)\s*\[\s*"EPSG"\s*,\s*"?(\d+)"?\s*\]/gi;
+  let last: number | null = null;
+  for (let m = re.exec(text); m; m = re.exec(text)) last = Number(m[1]);
+  if (last !== null && (last === 4326 || NEAR_WGS84[last])) return sourceFromEpsg(last);
+  if (/^GEOG(CS|CRS)\s*\[\s*"(WGS 84|WGS_1984|GCS_WGS_1984|WGS84)"/i.test(text)) return WGS84;
+  const c = terrain(() => crsFromWkt(text));
+  return sourceFromEpsg(c.epsg);
 }
 
 export interface Transformer {

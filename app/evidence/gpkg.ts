@@ -5,8 +5,7 @@
  * from gpkg_spatial_ref_sys: an EPSG organisation code, else the WKT definition via terrain/crs.ts.
  */
 import type initSqlJsType from "sql.js";
-import { crsFromWkt } from "../terrain/crs";
-import { type SourceCrs, WGS84, sourceFromEpsg, terrain } from "./crs-transform";
+import { type SourceCrs, sourceFromEpsg, sourceFromWkt } from "./crs-transform";
 import { EvidenceError, type EvidenceLimits, type ParseOptions } from "./types";
 import type { RawFeature, VectorSource } from "./vectors";
 import { readWkb } from "./wkb";
@@ -34,10 +33,9 @@ function sourceFromSrs(org: string | null, code: number | null, definition: stri
     throw new EvidenceError(`the GeoPackage layer's CRS is undefined (srs_id ${srsId}): declare the EPSG code of its coordinates when uploading`);
   }
   if (org && org.toUpperCase() === "EPSG" && code) return { crs: sourceFromEpsg(code), how: `gpkg_spatial_ref_sys: EPSG:${code}` };
-  if (definition && /^\s*GEOGCS\s*\[\s*"(WGS 84|WGS_1984|GCS_WGS_1984)"/i.test(definition)) return { crs: WGS84, how: "gpkg_spatial_ref_sys WKT (WGS 84)" };
   if (definition && definition !== "undefined") {
-    const c = terrain(() => crsFromWkt(definition));
-    return { crs: sourceFromEpsg(c.epsg), how: `gpkg_spatial_ref_sys WKT (EPSG:${c.epsg})` };
+    const crs = sourceFromWkt(definition);
+    return { crs, how: `gpkg_spatial_ref_sys WKT (${crs.label})` };
   }
   throw new EvidenceError(`the GeoPackage's CRS (srs_id ${srsId}) has no EPSG code or definition: declare the EPSG code when uploading`);
 }

@@ -54,6 +54,13 @@ describe("zipped Shapefile details", () => {
     expect(ok.summary.crsSource).toMatch(/declared EPSG:32731/);
   });
 
+  it("refuses projected coordinates under a .prj that says WGS 84", async () => {
+    const m = members();
+    m["turbines.prj"] = new TextEncoder().encode('GEOGCS["GCS_WGS_1984",DATUM["D_WGS_1984",SPHEROID["WGS_1984",6378137.0,298.257223563]],PRIMEM["Greenwich",0.0],UNIT["Degree",0.0174532925199433]]');
+    const e = await refusal(parseEvidence("development_footprint", zipSync(m), base()));
+    expect(e.message).toMatch(/feature 1: position \(\d+\.?\d*, \d+\.?\d*\) is not longitude\/latitude, but \.prj \(EPSG:4326 \(WGS 84\)\) says it should be/);
+  });
+
   it("refuses a cut .shp and a zip declaring a huge unpacked size before unpacking it", async () => {
     const m = members();
     const cut = await refusal(parseEvidence("development_footprint", zipSync({ ...m, "turbines.shp": m["turbines.shp"].subarray(0, 130) }), base()));

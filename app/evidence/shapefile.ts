@@ -7,8 +7,7 @@
  * unpacked size checked first (a small zip can hold gigabytes).
  */
 import { unzipSync } from "fflate";
-import { crsFromWkt } from "../terrain/crs";
-import { type SourceCrs, WGS84, sourceFromEpsg, terrain } from "./crs-transform";
+import { type SourceCrs, sourceFromEpsg, sourceFromWkt } from "./crs-transform";
 import { EvidenceError, type EvidenceLimits, type ParseOptions } from "./types";
 import type { RawFeature, VectorSource } from "./vectors";
 
@@ -30,20 +29,15 @@ function crsFromPrj(prj: string | null, opts: ParseOptions): { crs: SourceCrs; h
     throw new EvidenceError("the zip has no .prj file, so the Shapefile's CRS is unknown: add the .prj, or declare the EPSG code when uploading");
   }
   const text = prj.trim();
-  if (/^GEOGCS\s*\[\s*"(WGS 84|WGS_1984|GCS_WGS_1984)"/i.test(text)) return { crs: WGS84, how: ".prj (WGS 84 longitude/latitude)" };
   const esri = epsgFromEsriName(text);
-  if (/AUTHORITY\s*\[|ID\s*\[/i.test(text) || esri === null) {
-    try {
-      const c = terrain(() => crsFromWkt(text));
-      return { crs: sourceFromEpsg(c.epsg), how: `.prj WKT (EPSG:${c.epsg})` };
-    } catch (e) {
-      if (esri === null) {
-        if (opts.declaredEpsg !== undefined) return { crs: sourceFromEpsg(opts.declaredEpsg), how: `declared EPSG:${opts.declaredEpsg} (the .prj names no EPSG code)` };
-        throw e;
-      }
-    }
+  try {
+    const crs = sourceFromWkt(text);
+    return { crs, how: crs.geographic ? `.prj (${crs.label})` : `.prj WKT (EPSG:${crs.epsg})` };
+  } catch (e) {
+    if (esri !== null) return { crs: sourceFromEpsg(esri), how: `.prj ESRI name (EPSG:${esri})` };
+    if (opts.declaredEpsg !== undefined) return { crs: sourceFromEpsg(opts.declaredEpsg), how: `declared EPSG:${opts.declaredEpsg} (the .prj names no EPSG code)` };
+    throw e;
   }
-  return { crs: sourceFromEpsg(esri!), how: `.prj ESRI name (EPSG:${esri})` };
 }
 
 function signedArea(ring: number[][]): number {
