@@ -15,55 +15,17 @@ Object.assign(process.env, {
 });
 
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { spawn, type ChildProcess } from "node:child_process";
-import path from "node:path";
 import { eq, sql } from "drizzle-orm";
 import { db } from "~/db.server";
 import { caughtMail, jobRuns, mailOutbox, projects, users } from "~/db/schema";
 import { enqueueJob, getJobRun, requestCancel, type JobRun } from "~/jobs.server";
 import { makeUser } from "../tests/support/world";
+import { startWorker, waitFor, workers, type WorkerHandle } from "../tests/support/workers";
 import { startTestCatcher } from "../tests/support/mail";
 import type { CatcherHandle } from "~/mail-catcher.server";
 import { boss, ensureQueues, stopBoss, TEST_QUEUE } from "./boss.server";
 import { CANCELLED_MESSAGE } from "./notify";
 import type { TestSleepPayload } from "./test-sleep";
-
-const ROOT = path.resolve(import.meta.dirname, "..");
-
-interface WorkerHandle {
-  proc: ChildProcess;
-  output: string[];
-  exited: Promise<number | null>;
-}
-const workers: WorkerHandle[] = [];
-
-function startWorker(): WorkerHandle {
-  const proc = spawn(process.execPath, ["scripts/run-ts.mjs", "jobs/worker.ts"], { cwd: ROOT, env: { ...process.env }, stdio: ["ignore", "pipe", "pipe"] });
-  const output: string[] = [];
-  proc.stdout!.on("data", (d: Buffer) => output.push(d.toString()));
-  proc.stderr!.on("data", (d: Buffer) => output.push(d.toString()));
-  const exited = new Promise<number | null>((resolve) => proc.on("exit", (code) => resolve(code)));
-  const w = { proc, output, exited };
-  workers.push(w);
-  return w;
-}
-
-function workerLogs(): string {
-  return workers.map((w, i) => `--- worker ${i} (pid ${w.proc.pid}) ---\n${w.output.join("").slice(-4000)}`).join("\n");
-}
-
-/** Polls `probe` until it returns a truthy value, or fails after `deadlineMs` showing the last value and the workers' logs. */
-async function waitFor<T>(what: string, probe: () => Promise<T | null | undefined | false>, deadlineMs = 15_000): Promise<T> {
-  const until = Date.now() + deadlineMs;
-  let last: unknown;
-  for (;;) {
-    const v = await probe();
-    if (v) return v;
-    last = v;
-    if (Date.now() > until) throw new Error(`timed out waiting for ${what} (last: ${JSON.stringify(last)})\n${workerLogs()}`);
-    await new Promise((r) => setTimeout(r, 50));
-  }
-}
 
 const run = async (id: string) => (await getJobRun(id))!;
 const ended = (id: string, deadlineMs?: number) =>
