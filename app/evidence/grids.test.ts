@@ -46,6 +46,22 @@ describe("bathymetry from GeoTIFF", () => {
     expect(res.warnings.join(" ")).toMatch(/not square \(20 × 30 m\)/);
   });
 
+  for (const [file, sampleType, compression, extra] of [
+    ["bathy-bigtiff.tif", "float32", "none", { bigTiff: true }],
+    ["bathy-float64-lzw-pred3.tif", "float64", "LZW", {}],
+    ["bathy-uint8-tiled.tif", "uint8", "none", { tiled: true }],
+  ] as const) {
+    it(`reads GDAL's ${file} (${sampleType}, ${compression}) to the same grid (reference library)`, async () => {
+      const res = await parseEvidence("bathymetry", evidenceFixture(file), opts({ vertical: { sign: "depth_positive_down", datum: "MSL", offsetToMslM: 0 } }));
+      const g = res.grid!;
+      expect(g.spec).toMatchObject({ width: 5, height: 4, cellSizeX: 20, cellSizeY: 30 });
+      // bathy-depths.asc: rows 12..16, 13..17, 14 15 nodata 17 18, 15..19
+      expect(Array.from(g.data.subarray(15, 20))).toEqual([-15, -16, -17, -18, -19]);
+      expect(g.nodata[12]).toBe(1);
+      expect(res.summary).toMatchObject({ sampleType, compression, nodataCount: 1, ...extra });
+    });
+  }
+
   it("takes NaN cells as nodata, says how many, and reads elevations positive up unchanged apart from the offset", async () => {
     const s = gridSpec(4, 4);
     const v = Float32Array.from({ length: 16 }, (_, i) => -30 - i);
