@@ -173,6 +173,27 @@ describe("GeoPackage and zipped Shapefile (fixtures made by GDAL's ogr2ogr)", ()
     });
   });
 
+  it("reads GDAL's 3-D GeoPackage of mixed interpretations (ISO WKB Z, xyz envelopes): same places as the GeoJSON, Z dropped", async () => {
+    const g = await parseEvidence("interpretations", evidenceFixture("interpretations-3d.gpkg"), base({ fileName: "i.gpkg" }));
+    const j = await parseEvidence("interpretations", evidenceFixture("interpretations.geojson"), base());
+    expect(g.features!.features.map((f) => [f.geometry.type, f.properties.kind])).toEqual([
+      ["LineString", "palaeochannel"],
+      ["Polygon", "gas_blanking"],
+      ["Point", "anomaly_archaeological"],
+    ]);
+    expect(g.features!.features[0].properties).toMatchObject({ depthBelowSeabedM: 3.2, ageKa: 10.8, confidence: "high", interpreter: "C. Invented" });
+    const flat = (c: unknown): number[][] => (typeof (c as unknown[])[0] === "number" ? [c as number[]] : (c as unknown[]).flatMap(flat));
+    g.features!.features.forEach((f, k) => {
+      const a = flat(f.geometry.coordinates);
+      const b = flat(j.features!.features[k].geometry.coordinates);
+      expect(a.length).toBe(b.length);
+      a.forEach((p, i) => {
+        expect(p).toHaveLength(2);
+        expect(Math.hypot(p[0] - b[i][0], p[1] - b[i][1])).toBeLessThan(1e-3);
+      });
+    });
+  });
+
   it("reads a zipped Shapefile: polygon with its hole, .prj CRS, and dBASE names cut to 10 characters", async () => {
     const s = await parseEvidence("lease_blocks", evidenceFixture("blocks-shp.zip"), base({ fileName: "blocks.zip" }));
     const j = await parseEvidence("lease_blocks", evidenceFixture("blocks.geojson"), base());
