@@ -60,43 +60,49 @@ async function signInDemoRoles(baseUrl: string) {
 
 export default async function globalSetup() {
   const { name, url: databaseUrl } = await createTestDatabase("e2e");
-  const env = { ...process.env, DATABASE_URL: databaseUrl };
+  const scratch = fs.mkdtempSync(path.join(os.tmpdir(), "lowstand-e2e-"));
+  const env = {
+    ...process.env,
+    DATABASE_URL: databaseUrl,
+    STORAGE_DRIVER: "fs",
+    STORAGE_DIR: path.join(scratch, "storage"),
+    UPLOAD_TMP_DIR: path.join(scratch, "tmp"),
+  };
   execFileSync(process.execPath, ["scripts/run-ts.mjs", "scripts/seed.ts"], { cwd: root, env, stdio: "inherit" });
 
   const port = await freePort();
   const smtpPort = await freePort();
-  const scratch = fs.mkdtempSync(path.join(os.tmpdir(), "lowstand-e2e-"));
   const baseUrl = `http://127.0.0.1:${port}`;
   let output = "";
-  const child = spawn(process.execPath, ["server.mjs"], {
-    cwd: root,
-    env: {
-      ...env,
-      NODE_ENV: "production",
-      PORT: String(port),
-      HOST: "127.0.0.1",
-      PUBLIC_URL: baseUrl,
-      BUILD_DIR: process.env.BUILD_DIR ?? "build-test",
-      LOG_REQUESTS: "0",
-      // Mail goes over SMTP to a catcher inside the app process, readable at /dev/outbox.
-      LOWSTAND_MAIL_CATCHER_PORT: String(smtpPort),
-      SMTP_URL: `smtp://127.0.0.1:${smtpPort}`,
-      LOWSTAND_DEV_OUTBOX: "1",
-      STORAGE_DRIVER: "fs",
-      STORAGE_DIR: path.join(scratch, "storage"),
-      UPLOAD_TMP_DIR: path.join(scratch, "tmp"),
-    },
-    stdio: ["ignore", "pipe", "pipe"],
-  });
+  const serverEnv = {
+    ...env,
+    NODE_ENV: "production",
+    PORT: String(port),
+    HOST: "127.0.0.1",
+    PUBLIC_URL: baseUrl,
+    BUILD_DIR: process.env.BUILD_DIR ?? "build-test",
+    LOG_REQUESTS: "0",
+    // Mail goes over SMTP to a catcher inside the app process, readable at /dev/outbox.
+    LOWSTAND_MAIL_CATCHER_PORT: String(smtpPort),
+    SMTP_URL: `smtp://127.0.0.1:${smtpPort}`,
+    LOWSTAND_DEV_OUTBOX: "1",
+    LOWSTAND_ENGINE_THREADS: "2",
+  };
+  const child = spawn(process.execPath, ["server.mjs"], { cwd: root, env: serverEnv, stdio: ["ignore", "pipe", "pipe"] });
   child.stdout!.on("data", (d) => (output += d));
   child.stderr!.on("data", (d) => (output += d));
+  // One job worker beside the server, as `npm start` runs it.
+  const worker = spawn(process.execPath, ["scripts/run-ts.mjs", "jobs/worker.ts"], { cwd: root, env: { ...serverEnv }, stdio: ["ignore", "pipe", "pipe"] });
+  worker.stdout!.on("data", (d) => (output += d));
+  worker.stderr!.on("data", (d) => (output += d));
   await waitForHealth(baseUrl, child, () => output);
   process.env.E2E_BASE_URL = baseUrl;
   await signInDemoRoles(baseUrl);
 
   return async () => {
     child.kill("SIGTERM");
-    await new Promise((r) => child.once("exit", r));
+    worker.kill("SIGTERM");
+    await Promise.all([new Promise((r) => child.once("exit", r)), new Promise((r) => worker.once("exit", r))]);
     await dropTestDatabase(name);
     fs.rmSync(scratch, { recursive: true, force: true });
   };
