@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { decodeText } from "./text";
+import { MAX_TEXT_BYTES, decodeText } from "./text";
 
 describe("decodeText", () => {
   it("drops a UTF-8 byte-order mark and reads UTF-16 with its mark", () => {
@@ -15,5 +15,10 @@ describe("decodeText", () => {
   it("refuses empty and binary files, naming the byte", () => {
     expect(() => decodeText(new Uint8Array(0), "CSV")).toThrow(/the CSV file is empty/);
     expect(() => decodeText(Uint8Array.of(0x61, 0x62, 0, 0x63), "CSV")).toThrow(/binary \(a zero byte at byte 2\)/);
+  });
+  it("refuses text longer than a JavaScript string can hold, before decoding it", () => {
+    // only the length is read before refusing, so a stand-in object avoids allocating 512 MiB
+    const huge = { length: MAX_TEXT_BYTES + 1 } as unknown as Uint8Array;
+    expect(() => decodeText(huge, "ESRI ASCII grid")).toThrow(/is 512 MiB, more than the 512 MiB Lowstand reads as text: .*GeoTIFF/);
   });
 });

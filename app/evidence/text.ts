@@ -4,6 +4,9 @@
  */
 import { EvidenceError } from "./types";
 
+/** Text files above this are refused: a JavaScript string holds at most about 2²⁹ characters. */
+export const MAX_TEXT_BYTES = 512 * 2 ** 20;
+
 /** True when the first bytes hold a NUL (text files never do, outside UTF-16). O(min(n, 8192)). */
 export function looksBinary(bytes: Uint8Array): boolean {
   const n = Math.min(bytes.length, 8192);
@@ -18,6 +21,11 @@ export function looksBinary(bytes: Uint8Array): boolean {
  */
 export function decodeText(bytes: Uint8Array, what: string, warnings?: string[]): string {
   if (bytes.length === 0) throw new EvidenceError(`the ${what} file is empty (0 bytes)`, { byte: 0 });
+  if (bytes.length > MAX_TEXT_BYTES) {
+    throw new EvidenceError(
+      `the ${what} file is ${(bytes.length / 2 ** 20).toFixed(0)} MiB, more than the ${MAX_TEXT_BYTES / 2 ** 20} MiB Lowstand reads as text: split it, or send grids as GeoTIFF and points as XYZ`,
+    );
+  }
   if (bytes[0] === 0xff && bytes[1] === 0xfe) return new TextDecoder("utf-16le").decode(bytes.subarray(2));
   if (bytes[0] === 0xfe && bytes[1] === 0xff) return new TextDecoder("utf-16be").decode(bytes.subarray(2));
   if (looksBinary(bytes)) {
