@@ -77,6 +77,8 @@ describe("GeoJSON (RFC 7946, WGS 84) into the project CRS", () => {
   it("reads known sites as points and survey lines as lines with one fix id per vertex", async () => {
     const s = await parseEvidence("known_sites", fc([feature({ type: "Point", coordinates: [2.95, -30.05] }, { site_id: "KS-9", precision_m: 20, context: "in situ", sensitivity: true })]), base());
     expect(s.features!.features[0].properties).toMatchObject({ siteId: "KS-9", context: "in_situ", sensitivity: "restricted", precisionM: 20 });
+    const twice = fc([1, 2].map(() => feature({ type: "Point", coordinates: [2.95, -30.05] }, { site_id: "KS-9", precision_m: 20 })));
+    expect((await refusal(parseEvidence("known_sites", twice, base()))).message).toMatch(/feature 2: site id 'KS-9' is used twice \(also feature 1\)/);
     const l = await parseEvidence("survey_lines", fc([feature({ type: "LineString", coordinates: [[2.95, -30.05], [2.96, -30.05], [2.97, -30.05]] }, { line_id: "P7", fix_ids: [1, 2, 3], system: "chirp", vertical_resolution_m: 0.2 })]), base());
     expect(l.features!.features[0].properties).toMatchObject({ lineId: "P7", fixIds: ["1", "2", "3"], system: "chirp", verticalResolutionM: 0.2 });
     const bad = await refusal(parseEvidence("survey_lines", fc([feature({ type: "LineString", coordinates: [[2.95, -30.05], [2.96, -30.05]] }, { line_id: "P7", fix_ids: [1, 2, 3] })]), base()));

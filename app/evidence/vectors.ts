@@ -358,9 +358,15 @@ export async function parseVectorEvidence(kind: EvidenceKind, format: EvidenceFo
     const cols = findColumns(table, SITE_COLUMNS, what);
     const rr = new RowReader(table, cols, problems, alternateColumns(table, SITE_COLUMNS));
     const defaults = { precision: 0, context: 0 };
+    const seen = new Map<string, number>();
     src.features.forEach((f, k) => {
       rr.at(k);
       const a = siteAttributes(rr, opts, defaults);
+      if (a.siteId) {
+        const prev = seen.get(a.siteId as string);
+        if (prev !== undefined) rr.problem(`site id '${a.siteId}' is used twice (also feature ${prev})`, rr.name("siteId"));
+        seen.set(a.siteId as string, f.index);
+      }
       const [x, y] = f.geometry!.coordinates as number[];
       if (opts.withinExtent && (x < opts.withinExtent[0] || x > opts.withinExtent[2] || y < opts.withinExtent[1] || y > opts.withinExtent[3])) {
         rr.problem(`(${x}, ${y}) lies outside the grid's extent`);
