@@ -232,3 +232,18 @@ describe("known sites stay confidential", () => {
     expect(exported).not.toContain("VM-3");
   });
 });
+
+describe("sweeping", () => {
+  it("removes stored objects no row refers to, and keeps the rest", async () => {
+    const orphan = "uploads/p0/2026-01-01/0123456789abcdef01234567.tif";
+    const staleRun = `runs/p${world.projectId}/r999999/run-a1/slope_deg.tif`;
+    await store().put(orphan, new Uint8Array([1, 2, 3]));
+    await store().put(staleRun, new Uint8Array([4]));
+    const kept = await db().select({ k: datasets.originalKey }).from(datasets).where(eq(datasets.projectId, world.projectId));
+    const { sweepUnreferencedObjects } = await import("~/datasets.server");
+    expect(await sweepUnreferencedObjects(0)).toBeGreaterThanOrEqual(2);
+    expect(await store().exists(orphan)).toBe(false);
+    expect(await store().exists(staleRun)).toBe(false);
+    for (const { k } of kept) expect(await store().exists(k)).toBe(true);
+  });
+});

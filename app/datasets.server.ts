@@ -7,7 +7,7 @@ import { createHash } from "node:crypto";
 import { createReadStream } from "node:fs";
 import { and, desc, eq } from "drizzle-orm";
 import { db } from "./db.server";
-import { datasets, siteRecords, users } from "./db/schema";
+import { datasets, reconstructions, siteRecords, users } from "./db/schema";
 import { UserError } from "./errors";
 import { recordAudit } from "./audit.server";
 import { makeKey, store } from "./storage.server";
@@ -245,23 +245,37 @@ export async function deleteDataset(projectId: number, datasetId: number, actorU
   return row;
 }
 
-/** Stored objects under uploads/ and datasets/ that no row refers to, older than `graceMs`, are removed. */
+/**
+ * Stored objects no row refers to, older than `graceMs`, are removed: uploads and normalised files
+ * of deleted or never-committed datasets, and reconstruction layers outside a published prefix
+ * (attempts that lost, were killed or failed). Returns how many objects went.
+ */
 export async function sweepUnreferencedObjects(graceMs = 24 * 3600_000): Promise<number> {
   const referenced = new Set<string>();
   for (const r of await db().select({ a: datasets.originalKey, b: datasets.derivedKey }).from(datasets)) {
     referenced.add(r.a);
     referenced.add(r.b);
   }
+  const prefixes = (await db().select({ p: reconstructions.layerPrefix }).from(reconstructions)).map((r) => r.p).filter((p): p is string => !!p);
+  const published = (key: string) => prefixes.some((p) => key.startsWith(`${p}/`));
   let removed = 0;
-  for (const area of ["uploads/", "datasets/"]) {
+  for (const area of ["uploads/", "datasets/", "runs/"]) {
     for await (const o of store().list(area)) {
-      if (!referenced.has(o.key) && Date.now() - o.modified.getTime() > graceMs) {
-        await store().delete(o.key);
-        removed++;
-      }
+      if (referenced.has(o.key) || published(o.key) || Date.now() - o.modified.getTime() <= graceMs) continue;
+      // A run still in progress writes under its own attempt prefix: leave any prefix of a running reconstruction alone.
+      if (area === "runs/" && (await runStillWriting(o.key))) continue;
+      await store().delete(o.key);
+      removed++;
     }
   }
   return removed;
+}
+
+async function runStillWriting(key: string): Promise<boolean> {
+  const m = /^runs\/p\d+\/r(\d+)\//.exec(key);
+  if (!m) return false;
+  const [r] = await db().select({ status: reconstructions.status }).from(reconstructions).where(eq(reconstructions.id, Number(m[1])));
+  return r?.status === "running";
 }
 
 /**

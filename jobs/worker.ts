@@ -7,6 +7,7 @@ import { pool } from "../app/db.server";
 import { startMailDispatcher, stopMailDispatcher } from "../app/mail.server";
 import { boss, jobSettings, queueNames, stopBoss } from "./boss.server";
 import { startReaper } from "./reaper";
+import { startMaintenance } from "./maintenance";
 import { JOB_REGISTRY } from "./registry";
 import { runAttempt, type QueueJob } from "./wrapper";
 
@@ -26,6 +27,7 @@ for (const q of queues) if (!JOB_REGISTRY[q]) console.warn(`${tag} no job kind i
 const b = await boss("worker");
 startMailDispatcher();
 const stopReaper = startReaper(settings);
+const stopMaintenance = startMaintenance();
 
 const shutdown = new AbortController();
 const running = new Set<Promise<void>>();
@@ -91,6 +93,7 @@ async function stop(signal: string) {
   const grace = new Promise((r) => setTimeout(r, settings.shutdownGraceMs).unref());
   await Promise.race([Promise.all([looping, ...running]), grace]);
   await stopReaper();
+  stopMaintenance();
   stopMailDispatcher();
   await stopBoss();
   await pool().end();
