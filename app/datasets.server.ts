@@ -110,7 +110,7 @@ export async function ingestUpload(
     let parsed: ParsedEvidence;
     try {
       // A small compressed GeoTIFF may declare gigabytes: check its header before decoding pixels.
-      if (format === "geotiff") geotiffHeaderCheck(head);
+      if (format === "geotiff") geotiffHeaderCheck(head, undefined, file.size);
       const bytes = new Uint8Array(await fs.readFile(file.path));
       parsed = await parseEvidence(f.kind, bytes, { fileName: file.originalName, projectEpsg: project.crsEpsg, vertical, declaredEpsg: f.declared_epsg });
     } catch (e) {

@@ -26,16 +26,16 @@ test.describe("evidence", () => {
     await page.getByLabel("Values are").selectOption("depth_positive_down");
     await page.getByLabel("Datum").fill("LAT");
     await page.getByLabel("Offset to present MSL (m)").fill("-2.1");
-    await page.getByRole("button", { name: "Upload" }).click();
+    await page.getByRole("button", { name: "Upload", exact: true }).click();
     await expect(page.getByRole("alert")).toContainText(/JPEG|not a file Lowstand can read/);
-    await expect(page.getByRole("link", { name: "survey" })).toHaveCount(0);
+    await expect(page.getByRole("link", { name: "survey", exact: true })).toHaveCount(0);
 
     await page.getByLabel("Name (optional)").fill("Velmar multibeam 2026");
     await page.getByLabel("File", { exact: true }).setInputFiles({ name: "velmar.tif", mimeType: "image/tiff", buffer: depthTiff() });
     await page.getByLabel("Values are").selectOption("depth_positive_down");
     await page.getByLabel("Datum").fill("LAT");
     await page.getByLabel("Offset to present MSL (m)").fill("-2.1");
-    await page.getByRole("button", { name: "Upload" }).click();
+    await page.getByRole("button", { name: "Upload", exact: true }).click();
     await expect(page.getByRole("status")).toContainText("is stored: 48 cells");
     await page.getByRole("link", { name: "Velmar multibeam 2026" }).first().click();
     await expect(page.getByRole("heading", { name: "Velmar multibeam 2026" })).toBeVisible();
