@@ -5,7 +5,7 @@
 import fs from "node:fs/promises";
 import { createHash } from "node:crypto";
 import { createReadStream } from "node:fs";
-import { and, desc, eq } from "drizzle-orm";
+import { and, desc, eq, sql } from "drizzle-orm";
 import { db } from "./db.server";
 import { datasets, reconstructions, siteRecords, users } from "./db/schema";
 import { UserError } from "./errors";
@@ -236,6 +236,20 @@ export async function getDataset(projectId: number, datasetId: number) {
 /** Deletes a dataset, its site records and its stored objects. */
 export async function deleteDataset(projectId: number, datasetId: number, actorUserId: number, meta: { clientAddress?: string } = {}) {
   const row = await db().transaction(async (tx) => {
+    // Refused while a reconstruction was made from it (its provenance would point at nothing).
+    const users = await tx
+      .select({ id: reconstructions.id, name: reconstructions.name })
+      .from(reconstructions)
+      .where(
+        and(
+          eq(reconstructions.projectId, projectId),
+          sql`${datasetId} in ((${reconstructions.params}->>'bathymetryDatasetId')::int, (${reconstructions.params}->>'horizonDatasetId')::int, (${reconstructions.params}->>'surveyLinesDatasetId')::int)`,
+        ),
+      );
+    if (users.length) {
+      const names = users.slice(0, 5).map((u) => u.name || `reconstruction ${u.id}`).join(", ");
+      throw new UserError(409, "dataset_in_use", `This dataset is kept: ${users.length === 1 ? "a reconstruction was" : `${users.length} reconstructions were`} made from it (${names}), and their provenance must stay whole.`);
+    }
     const [d] = await tx.delete(datasets).where(and(eq(datasets.id, datasetId), eq(datasets.projectId, projectId))).returning();
     if (!d) throw new UserError(404, "no_such_dataset", "There is no such dataset in this project.");
     await recordAudit(tx, { actorUserId, projectId, action: "dataset.deleted", detail: { datasetId, kind: d.kind, name: d.name }, clientAddress: meta.clientAddress });
