@@ -7,7 +7,6 @@
  * back; flow routing (fill, D8, accumulation) is 8-connected.
  */
 import {
-  CellHeap,
   CellQueue,
   D8_DCOL,
   D8_DROW,
@@ -19,6 +18,7 @@ import {
   assertLayerSize,
   pointToCell,
 } from "./grid";
+import { PriorityFlood } from "./priority-flood";
 
 export type Side = "north" | "south" | "east" | "west";
 
@@ -134,63 +134,43 @@ export interface SpillResult {
  *
  * Barnes, R., Lehman, C. & Mulla, D. (2014) "Priority-Flood: An optimal depression-filling and
  * watershed-labeling algorithm for digital elevation models", Computers & Geosciences 62: 117–127,
- * doi:10.1016/j.cageo.2013.04.024 — the improved variant (cells in a depression go to a plain FIFO
- * queue), here 4-connected and seeded only from the boundary cells, so the filled level of each cell
- * is its spill elevation (connected flooding, not a bathtub).
+ * doi:10.1016/j.cageo.2013.04.024 — the improved variant (cells in a depression go to a plain
+ * queue), with the slope tracing of Zhou, G., Sun, Z. & Fu, S. (2016) "An efficient variant of the
+ * Priority-Flood algorithm for filling depressions in raster digital elevation models", Computers &
+ * Geosciences 90(A): 87–96, doi:10.1016/j.cageo.2016.02.021 (cells reached from below keep their own
+ * elevation and are traced upwards through a plain stack; few cells enter the heap) — see
+ * priority-flood.ts. Here 4-connected and seeded only from the boundary cells, so the filled level of
+ * each cell is its spill elevation (connected flooding, not a bathtub).
  *
  * Preconditions: `elev` is elevation (m, present MSL), NaN / mask on nodata; nodata cells are walls
  * (the sea does not pass through them); grid edges are walls except where the boundary says. Also
  * labels the enclosed basins (4-connected cells strictly below their spill elevation; all cells of a
- * basin share one spill elevation). Complexity O(n log n) time worst case, O(n) memory.
+ * basin share one spill elevation). Complexity O(n log n) time worst case (O(n + h log h) when h
+ * cells enter the heap), O(n) memory.
  */
 export function spillElevation(elev: Grid<Float32Array>, boundaryMask: Uint8Array, control?: RunControl): SpillResult {
   const { spec, data: z, nodata } = elev;
   const { width: w, height: h } = spec;
   const n = w * h;
   assertLayerSize(spec, boundaryMask, "open-ocean boundary mask");
-  const spill = new Float32Array(n);
+  const spill = new Float32Array(z);
   const done = new Uint8Array(n);
-  const heap = new CellHeap(2 * (w + h));
-  const pit = new CellQueue(1024);
   const ticker = new Ticker(control, n, "spill elevation", 0, 0.9);
   ticker.start();
+  const pf = new PriorityFlood(spill, done, w, h, 4, ticker);
   let seeds = 0;
   for (let i = 0; i < n; i++) {
     if (nodata[i]) {
       spill[i] = NaN;
       done[i] = 1;
     } else if (boundaryMask[i]) {
-      spill[i] = z[i];
       done[i] = 1;
-      heap.push(i, z[i]);
+      pf.seed(i);
       seeds++;
     }
   }
   if (seeds === 0) throw new TerrainInputError("the open-ocean boundary touches no valid cell of the grid");
-  let processed = 0;
-  while (heap.size > 0 || pit.size > 0) {
-    const c = pit.size > 0 ? pit.shift() : heap.pop();
-    const sc = spill[c];
-    const r = (c / w) | 0;
-    const col = c - r * w;
-    for (let k = 0; k < 8; k += 2) {
-      const rr = r + D8_DROW[k];
-      const cc = col + D8_DCOL[k];
-      if (rr < 0 || rr >= h || cc < 0 || cc >= w) continue;
-      const m = rr * w + cc;
-      if (done[m]) continue;
-      done[m] = 1;
-      const zm = z[m];
-      if (zm <= sc) {
-        spill[m] = sc;
-        pit.push(m);
-      } else {
-        spill[m] = zm;
-        heap.push(m, zm);
-      }
-    }
-    ticker.tick(++processed);
-  }
+  pf.flood();
   let unreachable = 0;
   for (let i = 0; i < n; i++) {
     if (!done[i]) {
