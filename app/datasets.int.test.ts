@@ -17,8 +17,7 @@ import * as apiDataset from "~/routes/api.dataset";
 import * as apiSites from "~/routes/api.project-sites";
 import * as apiExport from "~/routes/api.project-sites-export";
 import { createApiToken } from "~/auth.server";
-import { buildWorld, ORIGIN, type World } from "../tests/support/world";
-import type { LowstandLoadContext } from "~/load-context";
+import { buildWorld, callWith, ORIGIN, type World } from "../tests/support/world";
 
 let world: World;
 let analystToken: string;
@@ -27,7 +26,6 @@ beforeAll(async () => {
   analystToken = (await createApiToken(world.userIds.analyst, "uploads")).token;
 });
 
-const ctx: LowstandLoadContext = { clientAddress: "127.0.0.1", requestId: "t" };
 const pid = () => String(world.projectId);
 
 function multipart(path: string, fields: Record<string, string>, file: { bytes: Uint8Array; name: string } | null, headers: Record<string, string>) {
@@ -37,18 +35,6 @@ function multipart(path: string, fields: Record<string, string>, file: { bytes: 
   return new Request(new URL(path, ORIGIN), { method: "POST", body: fd, headers: { Origin: ORIGIN, ...headers } });
 }
 
-async function run(fn: (a: any) => unknown, request: Request, params: Record<string, string>): Promise<Response> {
-  try {
-    const out = await fn({ request, params, context: ctx, url: new URL(request.url), pattern: "" });
-    if (out instanceof Response) return out;
-    const d = out as { type?: string; data?: unknown; init?: ResponseInit };
-    if (d?.type === "DataWithResponseInit") return Response.json(d.data, d.init);
-    return Response.json(out);
-  } catch (e) {
-    if (e instanceof Response) return e;
-    throw e;
-  }
-}
 
 /** A 6×5 depth grid (positive down) in UTM 33S, written by our own GeoTIFF writer. */
 function depthTiff(): Uint8Array {
@@ -76,7 +62,7 @@ async function tempFiles(): Promise<string[]> {
 describe("uploading a bathymetry grid", () => {
   it("stores the file as sent and a normalised grid of elevations relative to present MSL", async () => {
     const bytes = depthTiff();
-    const res = await run(dataPage.action, multipart(`/projects/${pid()}/data`, { kind: "bathymetry", name: "Velmar multibeam", sign: "depth_positive_down", datum: "LAT", offset_to_msl_m: "-1.5" }, { bytes, name: "velmar.tif" }, { Cookie: world.cookies.analyst }), { projectId: pid() });
+    const res = await callWith(dataPage.action, multipart(`/projects/${pid()}/data`, { kind: "bathymetry", name: "Velmar multibeam", sign: "depth_positive_down", datum: "LAT", offset_to_msl_m: "-1.5" }, { bytes, name: "velmar.tif" }, { Cookie: world.cookies.analyst }), { projectId: pid() });
     expect(res.status).toBe(200);
     const body = await res.json();
     expect(body.ok).toMatch(/stored/);
@@ -97,7 +83,7 @@ describe("uploading a bathymetry grid", () => {
 
   it("refuses a grid of heights without its vertical reference, storing nothing", async () => {
     const before = [await countRows(), (await storedFiles()).length];
-    const res = await run(dataPage.action, multipart(`/projects/${pid()}/data`, { kind: "bathymetry" }, { bytes: depthTiff(), name: "x.tif" }, { Cookie: world.cookies.analyst }), { projectId: pid() });
+    const res = await callWith(dataPage.action, multipart(`/projects/${pid()}/data`, { kind: "bathymetry" }, { bytes: depthTiff(), name: "x.tif" }, { Cookie: world.cookies.analyst }), { projectId: pid() });
     expect(res.status).toBe(422);
     expect((await res.json()).error).toMatch(/depths .*elevations/);
     expect([await countRows(), (await storedFiles()).length]).toEqual(before);
@@ -108,15 +94,15 @@ describe("uploading a bathymetry grid", () => {
     const before = [await countRows(), (await storedFiles()).length];
     const jpeg = new Uint8Array([0xff, 0xd8, 0xff, 0xe0, 0, 16, 0x4a, 0x46, 0x49, 0x46, 0, 1, 1, 0, 0, 1, 0, 1, 0, 0]);
     const fields = { kind: "bathymetry", sign: "elevation_positive_up", datum: "MSL", offset_to_msl_m: "0" };
-    const r1 = await run(dataPage.action, multipart(`/projects/${pid()}/data`, fields, { bytes: jpeg, name: "bathy.tif" }, { Cookie: world.cookies.analyst }), { projectId: pid() });
+    const r1 = await callWith(dataPage.action, multipart(`/projects/${pid()}/data`, fields, { bytes: jpeg, name: "bathy.tif" }, { Cookie: world.cookies.analyst }), { projectId: pid() });
     expect(r1.status).toBeGreaterThanOrEqual(400);
     expect(r1.status).toBeLessThan(500);
     expect((await r1.json()).error).toMatch(/JPEG|not a file Lowstand can read/i);
-    const r2 = await run(dataPage.action, multipart(`/projects/${pid()}/data`, fields, { bytes: new Uint8Array(0), name: "bathy.tif" }, { Cookie: world.cookies.analyst }), { projectId: pid() });
+    const r2 = await callWith(dataPage.action, multipart(`/projects/${pid()}/data`, fields, { bytes: new Uint8Array(0), name: "bathy.tif" }, { Cookie: world.cookies.analyst }), { projectId: pid() });
     expect(r2.status).toBe(422);
     expect((await r2.json()).error).toMatch(/empty/);
     const random = new Uint8Array(4096).map((_, i) => (i * 7919 + 13) % 251);
-    const r3 = await run(dataPage.action, multipart(`/projects/${pid()}/data`, fields, { bytes: random, name: "bathy.tif" }, { Cookie: world.cookies.analyst }), { projectId: pid() });
+    const r3 = await callWith(dataPage.action, multipart(`/projects/${pid()}/data`, fields, { bytes: random, name: "bathy.tif" }, { Cookie: world.cookies.analyst }), { projectId: pid() });
     expect(r3.status).toBeGreaterThanOrEqual(400);
     expect(r3.status).toBeLessThan(500);
     expect([await countRows(), (await storedFiles()).length]).toEqual(before);
@@ -126,7 +112,7 @@ describe("uploading a bathymetry grid", () => {
   it("refuses a file over the configured limit while streaming it", async () => {
     process.env.UPLOAD_MAX_BYTES = "1000";
     try {
-      const res = await run(dataPage.action, multipart(`/projects/${pid()}/data`, { kind: "bathymetry", sign: "elevation_positive_up", datum: "MSL", offset_to_msl_m: "0" }, { bytes: new Uint8Array(5000), name: "big.tif" }, { Cookie: world.cookies.analyst }), { projectId: pid() });
+      const res = await callWith(dataPage.action, multipart(`/projects/${pid()}/data`, { kind: "bathymetry", sign: "elevation_positive_up", datum: "MSL", offset_to_msl_m: "0" }, { bytes: new Uint8Array(5000), name: "big.tif" }, { Cookie: world.cookies.analyst }), { projectId: pid() });
       expect(res.status).toBe(413);
       expect((await res.json()).error).toMatch(/larger than the upload limit of 1000 bytes/);
     } finally {
@@ -136,7 +122,7 @@ describe("uploading a bathymetry grid", () => {
   });
 
   it("keeps uploads to analysts and up", async () => {
-    const res = await run(dataPage.action, multipart(`/projects/${pid()}/data`, { kind: "bathymetry" }, { bytes: depthTiff(), name: "x.tif" }, { Cookie: world.cookies.reviewer }), { projectId: pid() });
+    const res = await callWith(dataPage.action, multipart(`/projects/${pid()}/data`, { kind: "bathymetry" }, { bytes: depthTiff(), name: "x.tif" }, { Cookie: world.cookies.reviewer }), { projectId: pid() });
     expect(res.status).toBe(403);
   });
 });
@@ -144,16 +130,16 @@ describe("uploading a bathymetry grid", () => {
 describe("the datasets API with a token", () => {
   it("uploads, lists, reads and deletes (files go too)", async () => {
     const auth = { Authorization: `Bearer ${analystToken}` };
-    const post = await run(apiDatasets.action, multipart(`/api/projects/${pid()}/datasets`, { kind: "horizon_grid", sign: "depth_positive_down", datum: "seabed", offset_to_msl_m: "0" }, { bytes: depthTiff(), name: "horizon.tif" }, auth), { projectId: pid() });
+    const post = await callWith(apiDatasets.action, multipart(`/api/projects/${pid()}/datasets`, { kind: "horizon_grid", sign: "depth_positive_down", datum: "seabed", offset_to_msl_m: "0" }, { bytes: depthTiff(), name: "horizon.tif" }, auth), { projectId: pid() });
     expect(post.status).toBe(201);
     const { dataset } = await post.json();
     expect(dataset).toMatchObject({ kind: "horizon_grid", count: 30 });
-    const list = await run(apiDatasets.loader, new Request(new URL(`/api/projects/${pid()}/datasets`, ORIGIN), { headers: auth }), { projectId: pid() });
+    const list = await callWith(apiDatasets.loader, new Request(new URL(`/api/projects/${pid()}/datasets`, ORIGIN), { headers: auth }), { projectId: pid() });
     expect((await list.json()).datasets.map((d: { id: number }) => d.id)).toContain(dataset.id);
-    const one = await run(apiDataset.loader, new Request(new URL(`/api/datasets/${dataset.id}`, ORIGIN), { headers: auth }), { datasetId: String(dataset.id) });
+    const one = await callWith(apiDataset.loader, new Request(new URL(`/api/datasets/${dataset.id}`, ORIGIN), { headers: auth }), { datasetId: String(dataset.id) });
     expect((await one.json()).dataset.sha256).toMatch(/^[0-9a-f]{64}$/);
     const [row] = await db().select().from(datasets).where(eq(datasets.id, dataset.id));
-    const del = await run(apiDataset.action, new Request(new URL(`/api/datasets/${dataset.id}`, ORIGIN), { method: "DELETE", headers: auth }), { datasetId: String(dataset.id) });
+    const del = await callWith(apiDataset.action, new Request(new URL(`/api/datasets/${dataset.id}`, ORIGIN), { method: "DELETE", headers: auth }), { datasetId: String(dataset.id) });
     expect(del.status).toBe(204);
     expect(await store().exists(row.originalKey)).toBe(false);
     expect(await store().exists(row.derivedKey)).toBe(false);
@@ -161,7 +147,7 @@ describe("the datasets API with a token", () => {
 
   it("answers a non-member's request for a dataset with 404, as if it did not exist", async () => {
     const [d] = await db().select({ id: datasets.id }).from(datasets).where(eq(datasets.projectId, world.projectId)).limit(1);
-    const res = await run(apiDataset.loader, new Request(new URL(`/api/datasets/${d.id}`, ORIGIN), { headers: { Cookie: world.cookies.outsider } }), { datasetId: String(d.id) });
+    const res = await callWith(apiDataset.loader, new Request(new URL(`/api/datasets/${d.id}`, ORIGIN), { headers: { Cookie: world.cookies.outsider } }), { datasetId: String(d.id) });
     expect(res.status).toBe(404);
   });
 });
@@ -176,35 +162,35 @@ describe("known sites stay confidential", () => {
   const coords = ["481234.5", "5021987.25", "481876.75", "5021333.5", "481111.25", "5021555.75"];
 
   beforeAll(async () => {
-    const res = await run(apiDatasets.action, multipart(`/api/projects/${pid()}/datasets`, { kind: "known_sites", name: "Velmar finds" }, { bytes: new TextEncoder().encode(csv), name: "sites.csv" }, { Authorization: `Bearer ${analystToken}` }), { projectId: pid() });
+    const res = await callWith(apiDatasets.action, multipart(`/api/projects/${pid()}/datasets`, { kind: "known_sites", name: "Velmar finds" }, { bytes: new TextEncoder().encode(csv), name: "sites.csv" }, { Authorization: `Bearer ${analystToken}` }), { projectId: pid() });
     expect(res.status, await res.clone().text()).toBe(201);
   });
 
   it("gives analysts exact positions, and viewers only generalised cells, on pages and the API", async () => {
-    const analyst = await run(apiSites.loader, new Request(new URL(`/api/projects/${pid()}/sites`, ORIGIN), { headers: { Cookie: world.cookies.analyst } }), { projectId: pid() });
+    const analyst = await callWith(apiSites.loader, new Request(new URL(`/api/projects/${pid()}/sites`, ORIGIN), { headers: { Cookie: world.cookies.analyst } }), { projectId: pid() });
     expect((await analyst.json()).exact).toHaveLength(3);
 
     const viewers: Record<string, string>[] = [{ Cookie: world.cookies.viewer }, { Authorization: `Bearer ${world.viewerToken}` }];
     for (const viewerHeaders of viewers) {
-      const api = await run(apiSites.loader, new Request(new URL(`/api/projects/${pid()}/sites`, ORIGIN), { headers: viewerHeaders }), { projectId: pid() });
+      const api = await callWith(apiSites.loader, new Request(new URL(`/api/projects/${pid()}/sites`, ORIGIN), { headers: viewerHeaders }), { projectId: pid() });
       expect(api.headers.get("Cache-Control")).toBe("private, no-store");
       expect(api.headers.get("Vary")).toMatch(/Cookie/);
       const text = await api.text();
       for (const c of coords) expect(text).not.toContain(c);
       expect(JSON.parse(text).exact).toEqual([]);
-      const list = await (await run(apiDatasets.loader, new Request(new URL(`/api/projects/${pid()}/datasets`, ORIGIN), { headers: viewerHeaders }), { projectId: pid() })).text();
+      const list = await (await callWith(apiDatasets.loader, new Request(new URL(`/api/projects/${pid()}/datasets`, ORIGIN), { headers: viewerHeaders }), { projectId: pid() })).text();
       for (const c of coords) expect(list).not.toContain(c);
       for (const c of coords) expect(list).not.toContain(String(Math.round(Number(c))));
     }
-    const page = await run(sitesPage.loader, new Request(new URL(`/projects/${pid()}/sites`, ORIGIN), { headers: { Cookie: world.cookies.viewer } }), { projectId: pid() });
+    const page = await callWith(sitesPage.loader, new Request(new URL(`/projects/${pid()}/sites`, ORIGIN), { headers: { Cookie: world.cookies.viewer } }), { projectId: pid() });
     const pageText = await page.text();
     for (const c of coords) expect(pageText).not.toContain(c);
   });
 
   it("lets only leads and owners export exact positions, and logs each export", async () => {
-    const viewer = await run(apiExport.loader, new Request(new URL(`/api/projects/${pid()}/sites/export?format=csv`, ORIGIN), { headers: { Cookie: world.cookies.analyst } }), { projectId: pid() });
+    const viewer = await callWith(apiExport.loader, new Request(new URL(`/api/projects/${pid()}/sites/export?format=csv`, ORIGIN), { headers: { Cookie: world.cookies.analyst } }), { projectId: pid() });
     expect(viewer.status).toBe(403);
-    const lead = await run(apiExport.loader, new Request(new URL(`/api/projects/${pid()}/sites/export?format=geojson`, ORIGIN), { headers: { Cookie: world.cookies.lead } }), { projectId: pid() });
+    const lead = await callWith(apiExport.loader, new Request(new URL(`/api/projects/${pid()}/sites/export?format=geojson`, ORIGIN), { headers: { Cookie: world.cookies.lead } }), { projectId: pid() });
     expect(lead.status).toBe(200);
     const fc = await lead.json();
     expect(fc.features).toHaveLength(3);
@@ -217,18 +203,18 @@ describe("known sites stay confidential", () => {
   it("lets a community's custodian see its records exactly and withhold them from everyone else", async () => {
     await db().update(memberships).set({ custodianFor: "Velmar shore families" }).where(and(eq(memberships.projectId, world.projectId), eq(memberships.userId, world.userIds.viewer)));
     const [weir] = await db().select().from(siteRecords).where(eq(siteRecords.label, "VM-3"));
-    const asViewer = await (await run(apiSites.loader, new Request(new URL(`/api/projects/${pid()}/sites`, ORIGIN), { headers: { Cookie: world.cookies.viewer } }), { projectId: pid() })).json();
+    const asViewer = await (await callWith(apiSites.loader, new Request(new URL(`/api/projects/${pid()}/sites`, ORIGIN), { headers: { Cookie: world.cookies.viewer } }), { projectId: pid() })).json();
     expect(asViewer.exact.map((s: { label: string }) => s.label)).toEqual(["VM-3"]);
 
     // A custodian of another community, or none, cannot change it.
-    const refused = await run(sitesPage.action, new Request(new URL(`/projects/${pid()}/sites`, ORIGIN), { method: "POST", headers: { Cookie: world.cookies.analyst, Origin: ORIGIN, "Content-Type": "application/x-www-form-urlencoded" }, body: `siteId=${weir.id}&visibility=withheld` }), { projectId: pid() });
+    const refused = await callWith(sitesPage.action, new Request(new URL(`/projects/${pid()}/sites`, ORIGIN), { method: "POST", headers: { Cookie: world.cookies.analyst, Origin: ORIGIN, "Content-Type": "application/x-www-form-urlencoded" }, body: `siteId=${weir.id}&visibility=withheld` }), { projectId: pid() });
     expect(refused.status).toBe(403);
 
-    const done = await run(sitesPage.action, new Request(new URL(`/projects/${pid()}/sites`, ORIGIN), { method: "POST", headers: { Cookie: world.cookies.viewer, Origin: ORIGIN, "Content-Type": "application/x-www-form-urlencoded" }, body: `siteId=${weir.id}&visibility=withheld` }), { projectId: pid() });
+    const done = await callWith(sitesPage.action, new Request(new URL(`/projects/${pid()}/sites`, ORIGIN), { method: "POST", headers: { Cookie: world.cookies.viewer, Origin: ORIGIN, "Content-Type": "application/x-www-form-urlencoded" }, body: `siteId=${weir.id}&visibility=withheld` }), { projectId: pid() });
     expect(done.status).toBe(200);
-    const asAnalyst = await (await run(apiSites.loader, new Request(new URL(`/api/projects/${pid()}/sites`, ORIGIN), { headers: { Cookie: world.cookies.analyst } }), { projectId: pid() })).json();
+    const asAnalyst = await (await callWith(apiSites.loader, new Request(new URL(`/api/projects/${pid()}/sites`, ORIGIN), { headers: { Cookie: world.cookies.analyst } }), { projectId: pid() })).json();
     expect(asAnalyst.exact.map((s: { label: string }) => s.label)).toEqual(["VM-1", "VM-2"]);
-    const exported = await (await run(apiExport.loader, new Request(new URL(`/api/projects/${pid()}/sites/export?format=csv`, ORIGIN), { headers: { Cookie: world.cookies.owner } }), { projectId: pid() })).text();
+    const exported = await (await callWith(apiExport.loader, new Request(new URL(`/api/projects/${pid()}/sites/export?format=csv`, ORIGIN), { headers: { Cookie: world.cookies.owner } }), { projectId: pid() })).text();
     expect(exported).not.toContain("VM-3");
   });
 });

@@ -8,7 +8,7 @@ import { createApiToken } from "~/auth.server";
 import * as apiDatasets from "~/routes/api.project-datasets";
 import * as apiDataset from "~/routes/api.dataset";
 import { demoFiles } from "../scripts/demo/demo-files";
-import { buildWorld, ORIGIN, type World } from "../tests/support/world";
+import { buildWorld, callWith, ORIGIN, type World } from "../tests/support/world";
 import { EVIDENCE_KINDS } from "~/evidence/types";
 
 let world: World;
@@ -18,15 +18,6 @@ beforeAll(async () => {
   token = (await createApiToken(world.userIds.analyst, "every kind")).token;
 });
 
-async function call(fn: (a: any) => unknown, request: Request, params: Record<string, string>): Promise<Response> {
-  try {
-    const out = await fn({ request, params, context: { clientAddress: "127.0.0.1", requestId: "t" }, url: new URL(request.url), pattern: "" });
-    return out instanceof Response ? out : Response.json(out);
-  } catch (e) {
-    if (e instanceof Response) return e;
-    throw e;
-  }
-}
 
 describe("every kind of evidence through the API", () => {
   const files = demoFiles();
@@ -44,12 +35,12 @@ describe("every kind of evidence through the API", () => {
       fd.set("name", f.name);
       for (const [k, v] of Object.entries(f.fields ?? {})) fd.set(k, v);
       fd.set("file", new Blob([new Uint8Array(f.bytes)]), f.fileName);
-      const res = await call(apiDatasets.action, new Request(new URL(`/api/projects/${world.projectId}/datasets`, ORIGIN), { method: "POST", body: fd, headers: { Authorization: `Bearer ${token}` } }), { projectId: String(world.projectId) });
+      const res = await callWith(apiDatasets.action, new Request(new URL(`/api/projects/${world.projectId}/datasets`, ORIGIN), { method: "POST", body: fd, headers: { Authorization: `Bearer ${token}` } }), { projectId: String(world.projectId) });
       expect(res.status, await res.clone().text()).toBe(201);
       const { dataset } = await res.json();
       expect(dataset).toMatchObject({ kind: f.kind, name: f.name, crsEpsg: 32733 });
       expect(dataset.count).toBeGreaterThan(0);
-      const one = await (await call(apiDataset.loader, new Request(new URL(`/api/datasets/${dataset.id}`, ORIGIN), { headers: { Authorization: `Bearer ${token}` } }), { datasetId: String(dataset.id) })).json();
+      const one = await (await callWith(apiDataset.loader, new Request(new URL(`/api/datasets/${dataset.id}`, ORIGIN), { headers: { Authorization: `Bearer ${token}` } }), { datasetId: String(dataset.id) })).json();
       expect(one.dataset.sha256).toMatch(/^[0-9a-f]{64}$/);
       expect(one.dataset.uploadedBy).toBe("Analyst Person");
     });
@@ -58,7 +49,7 @@ describe("every kind of evidence through the API", () => {
   it("keeps a dataset a reconstruction was made from", async () => {
     const [d] = await db().select().from(datasets).where(eq(datasets.kind, "bathymetry"));
     await db().insert(reconstructions).values({ projectId: world.projectId, inputsHash: "uses", params: { bathymetryDatasetId: d.id, horizonDatasetId: null, surveyLinesDatasetId: null }, engineVersion: "t", name: "Kept run" });
-    const res = await call(apiDataset.action, new Request(new URL(`/api/datasets/${d.id}`, ORIGIN), { method: "DELETE", headers: { Authorization: `Bearer ${token}` } }), { datasetId: String(d.id) });
+    const res = await callWith(apiDataset.action, new Request(new URL(`/api/datasets/${d.id}`, ORIGIN), { method: "DELETE", headers: { Authorization: `Bearer ${token}` } }), { datasetId: String(d.id) });
     expect(res.status).toBe(409);
     expect((await res.json()).error.message).toMatch(/Kept run/);
     expect((await db().select().from(datasets).where(eq(datasets.id, d.id))).length).toBe(1);

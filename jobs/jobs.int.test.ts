@@ -3,16 +3,7 @@
 // short timings (heartbeat 0.3 s, stale after 2 s, retry delay 1 s) so the file stays quick; every
 // wait polls the database with a deadline.
 process.env.LOWSTAND_TEST_JOBS = "1";
-Object.assign(process.env, {
-  LOWSTAND_JOB_HEARTBEAT_MS: "300",
-  LOWSTAND_JOB_POLL_MS: "100",
-  LOWSTAND_JOB_STALE_AFTER_S: "2",
-  LOWSTAND_JOB_REAPER_INTERVAL_MS: "500",
-  LOWSTAND_JOB_RETRY_LIMIT: "2",
-  LOWSTAND_JOB_RETRY_DELAY_S: "1",
-  LOWSTAND_JOB_FETCH_INTERVAL_MS: "500",
-  LOWSTAND_WORKER_SHUTDOWN_GRACE_MS: "5000",
-});
+Object.assign(process.env, FAST_JOB_SETTINGS, { LOWSTAND_WORKER_SHUTDOWN_GRACE_MS: "5000" });
 
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { eq, sql } from "drizzle-orm";
@@ -20,7 +11,7 @@ import { db } from "~/db.server";
 import { caughtMail, jobRuns, mailOutbox, projects, users } from "~/db/schema";
 import { enqueueJob, getJobRun, requestCancel, type JobRun } from "~/jobs.server";
 import { makeUser } from "../tests/support/world";
-import { startWorker, waitFor, workers, type WorkerHandle } from "../tests/support/workers";
+import { FAST_JOB_SETTINGS, startWorker, waitFor, workers, type WorkerHandle } from "../tests/support/workers";
 import { startTestCatcher } from "../tests/support/mail";
 import type { CatcherHandle } from "~/mail-catcher.server";
 import { boss, ensureQueues, stopBoss, TEST_QUEUE } from "./boss.server";

@@ -2,17 +2,7 @@
 // reconstruct → the published layers equal the engine run directly; identical inputs reuse the
 // run; a bad-input job fails once with its message; a worker killed mid-run → the job is retried
 // and finishes, and no partial manifest is ever visible.
-Object.assign(process.env, {
-  LOWSTAND_JOB_HEARTBEAT_MS: "300",
-  LOWSTAND_JOB_POLL_MS: "100",
-  LOWSTAND_JOB_STALE_AFTER_S: "2",
-  LOWSTAND_JOB_REAPER_INTERVAL_MS: "500",
-  LOWSTAND_JOB_RETRY_LIMIT: "2",
-  LOWSTAND_JOB_RETRY_DELAY_S: "1",
-  LOWSTAND_JOB_FETCH_INTERVAL_MS: "500",
-  LOWSTAND_WORKER_SHUTDOWN_GRACE_MS: "3000",
-  LOWSTAND_ENGINE_THREADS: "2",
-});
+Object.assign(process.env, FAST_JOB_SETTINGS, { LOWSTAND_WORKER_SHUTDOWN_GRACE_MS: "3000", LOWSTAND_ENGINE_THREADS: "2" });
 
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { eq } from "drizzle-orm";
@@ -31,23 +21,12 @@ import * as apiRecons from "~/routes/api.project-reconstructions";
 import * as apiLayer from "~/routes/api.reconstruction-layer";
 import * as apiJob from "~/routes/api.job";
 import { stopBoss } from "./boss.server";
-import { buildWorld, ORIGIN, type World } from "../tests/support/world";
-import { startWorker, stopWorkers, waitFor, workers } from "../tests/support/workers";
-import type { LowstandLoadContext } from "~/load-context";
+import { buildWorld, callWith, ORIGIN, type World } from "../tests/support/world";
+import { FAST_JOB_SETTINGS, startWorker, stopWorkers, waitFor, workers } from "../tests/support/workers";
 
 let world: World;
 let token: string;
-const ctx: LowstandLoadContext = { clientAddress: "127.0.0.1", requestId: "t" };
 
-async function call(fn: (a: any) => unknown, request: Request, params: Record<string, string>): Promise<Response> {
-  try {
-    const out = await fn({ request, params, context: ctx, url: new URL(request.url), pattern: "" });
-    return out instanceof Response ? out : Response.json(out);
-  } catch (e) {
-    if (e instanceof Response) return e;
-    throw e;
-  }
-}
 
 /** An invented shelf from the engine's own generator, placed in the project's CRS (UTM 33S). */
 function shelfTiff(size: number): Uint8Array {
@@ -61,13 +40,13 @@ async function upload(bytes: Uint8Array, name: string): Promise<number> {
   const fd = new FormData();
   Object.entries({ kind: "bathymetry", name, sign: "elevation_positive_up", datum: "MSL", offset_to_msl_m: "0" }).forEach(([k, v]) => fd.set(k, v));
   fd.set("file", new Blob([new Uint8Array(bytes)]), `${name}.tif`);
-  const res = await call(apiDatasets.action, new Request(new URL(`/api/projects/${world.projectId}/datasets`, ORIGIN), { method: "POST", body: fd, headers: { Authorization: `Bearer ${token}` } }), { projectId: String(world.projectId) });
+  const res = await callWith(apiDatasets.action, new Request(new URL(`/api/projects/${world.projectId}/datasets`, ORIGIN), { method: "POST", body: fd, headers: { Authorization: `Bearer ${token}` } }), { projectId: String(world.projectId) });
   expect(res.status, await res.clone().text()).toBe(201);
   return (await res.json()).dataset.id;
 }
 
 async function start(body: Record<string, unknown>) {
-  const res = await call(apiRecons.action, new Request(new URL(`/api/projects/${world.projectId}/reconstructions`, ORIGIN), { method: "POST", body: JSON.stringify(body), headers: { Authorization: `Bearer ${token}`, "Content-Type": "application/json" } }), { projectId: String(world.projectId) });
+  const res = await callWith(apiRecons.action, new Request(new URL(`/api/projects/${world.projectId}/reconstructions`, ORIGIN), { method: "POST", body: JSON.stringify(body), headers: { Authorization: `Bearer ${token}`, "Content-Type": "application/json" } }), { projectId: String(world.projectId) });
   return { status: res.status, body: await res.json() };
 }
 
@@ -102,7 +81,7 @@ describe("a reconstruction", () => {
 
     // The run's own end is written just after the handler returns: wait for it too.
     await waitFor("the job to be marked succeeded", async () => (await jobRun(first.body.jobId)).state === "succeeded");
-    const job = await call(apiJob.loader, new Request(new URL(`/api/jobs/${first.body.jobId}`, ORIGIN), { headers: { Authorization: `Bearer ${token}` } }), { jobId: first.body.jobId });
+    const job = await callWith(apiJob.loader, new Request(new URL(`/api/jobs/${first.body.jobId}`, ORIGIN), { headers: { Authorization: `Bearer ${token}` } }), { jobId: first.body.jobId });
     expect(await job.json()).toMatchObject({ state: "succeeded", progress: 1 });
 
     // The same computation in this process, from the stored normalised grid.
@@ -116,7 +95,7 @@ describe("a reconstruction", () => {
     const manifest = done.manifest as { layers: Array<{ name: string; ageKa: number | null }> };
     expect(manifest.layers.length).toBe(direct.size);
     for (const l of manifest.layers) {
-      const res = await call(apiLayer.loader, new Request(new URL(`/api/reconstructions/${id}/layers/${l.name}${l.ageKa === null ? "" : `?age=${l.ageKa}`}`, ORIGIN), { headers: { Authorization: `Bearer ${token}` } }), { id: String(id), layer: l.name });
+      const res = await callWith(apiLayer.loader, new Request(new URL(`/api/reconstructions/${id}/layers/${l.name}${l.ageKa === null ? "" : `?age=${l.ageKa}`}`, ORIGIN), { headers: { Authorization: `Bearer ${token}` } }), { id: String(id), layer: l.name });
       expect(res.status, `${l.name}@${l.ageKa}`).toBe(200);
       const got = (await readGeoTiff(new Uint8Array(await res.arrayBuffer()))).grid.data;
       const want = direct.get(`${l.name}@${l.ageKa}`)!.data;

@@ -14,7 +14,7 @@ import { refusal } from "~/security.server";
 import { UserError } from "~/errors";
 import { can } from "~/permissions";
 import { StatusBadge } from "~/components/StatusBadge";
-import { DangerButton, FormProblemNote } from "~/components/forms/Field";
+import { DangerButton, FormOutcome } from "~/components/forms/Field";
 import type { Manifest } from "~/terrain/reconstruct";
 import type { Route } from "./+types/project-reconstruction";
 
@@ -73,12 +73,7 @@ export default function ProjectReconstruction({ loaderData }: Route.ComponentPro
         <h1 className="text-2xl font-semibold">{r.name || `Reconstruction ${r.id}`}</h1>
         <StatusBadge status={r.status} />
       </header>
-      <FormProblemNote message={result && "error" in result ? result.error : null} />
-      {result && "ok" in result ? (
-        <p role="status" className="text-sm">
-          {result.ok}
-        </p>
-      ) : null}
+      <FormOutcome result={result} />
 
       {r.status === "running" && job ? (
         <section aria-label="Progress" className="space-y-2">

@@ -8,7 +8,7 @@ import { db } from "~/db.server";
 import { seaLevelCurves } from "~/db/schema";
 import { formAction, parseForm } from "~/route-helpers.server";
 import { can } from "~/permissions";
-import { FormProblemNote, PrimaryButton } from "~/components/forms/Field";
+import { ChoiceField, FormProblemNote, PrimaryButton } from "~/components/forms/Field";
 import { StatusBadge } from "~/components/StatusBadge";
 import type { Route } from "./+types/project-reconstructions";
 
@@ -69,7 +69,6 @@ export default function ProjectReconstructions({ loaderData }: Route.ComponentPr
   const problem = useActionData<typeof action>();
   const busy = useNavigation().state === "submitting";
   const p = problem && "error" in problem ? problem : null;
-  const select = "mt-1 block w-full rounded-sm border border-sand-300 bg-white px-2 py-1.5";
   return (
     <div className="max-w-5xl space-y-6">
       <h1 className="text-2xl font-semibold">Reconstructions</h1>
@@ -119,50 +118,16 @@ export default function ProjectReconstructions({ loaderData }: Route.ComponentPr
               <span className="block font-medium">Name (optional)</span>
               <input name="name" maxLength={120} className="mt-1 block w-full rounded-sm border border-sand-300 px-2 py-1.5" />
             </label>
-            <label className="text-sm">
-              <span className="block font-medium">Bathymetry grid</span>
-              <select name="bathymetryDatasetId" className={select}>
-                {bathymetry.map((d) => (
-                  <option key={d.id} value={d.id}>
-                    {d.name}
-                  </option>
-                ))}
-              </select>
-            </label>
-            <label className="text-sm">
-              <span className="block font-medium">Buried horizon (sub-bottom picks)</span>
-              <select name="horizonDatasetId" className={select} defaultValue="">
-                <option value="">none: analyse today's seabed</option>
-                {horizons.map((d) => (
-                  <option key={d.id} value={d.id}>
-                    {d.name}
-                  </option>
-                ))}
-              </select>
-              <span className="text-xs text-sediment-600">Hydrology on today's seabed follows sandwave troughs and scour; a horizon is the better surface where there is one.</span>
-            </label>
-            <label className="text-sm">
-              <span className="block font-medium">Survey lines (for distance to the nearest line)</span>
-              <select name="surveyLinesDatasetId" className={select} defaultValue="">
-                <option value="">none</option>
-                {lines.map((d) => (
-                  <option key={d.id} value={d.id}>
-                    {d.name}
-                  </option>
-                ))}
-              </select>
-            </label>
-            <label className="text-sm">
-              <span className="block font-medium">Sea-level curve</span>
-              <select name="curveId" className={select} defaultValue="">
-                <option value="">shipped global curve (global, far-field approximation)</option>
-                {curves.map((c) => (
-                  <option key={c.id} value={c.id}>
-                    {c.name}
-                  </option>
-                ))}
-              </select>
-            </label>
+            <ChoiceField label="Bathymetry grid" name="bathymetryDatasetId" items={bathymetry} />
+            <ChoiceField
+              label="Buried horizon (sub-bottom picks)"
+              name="horizonDatasetId"
+              items={horizons}
+              none="none: analyse today's seabed"
+              hint="Hydrology on today's seabed follows sandwave troughs and scour; a horizon is the better surface where there is one."
+            />
+            <ChoiceField label="Survey lines (for distance to the nearest line)" name="surveyLinesDatasetId" items={lines} none="none" />
+            <ChoiceField label="Sea-level curve" name="curveId" items={curves} none="shipped global curve (global, far-field approximation)" />
             <label className="text-sm">
               <span className="block font-medium">Ages (ka BP)</span>
               <input name="ages" defaultValue="20, 16, 14, 12, 10, 8" className="mt-1 block w-full rounded-sm border border-sand-300 px-2 py-1.5 tabular-nums" />

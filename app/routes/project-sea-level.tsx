@@ -9,7 +9,7 @@ import { formAction, parseForm } from "~/route-helpers.server";
 import { UserError } from "~/errors";
 import { can } from "~/permissions";
 import { SeaLevelChart } from "~/components/charts/SeaLevelChart";
-import { FormProblemNote, PrimaryButton, QuietButton } from "~/components/forms/Field";
+import { FormOutcome, PrimaryButton, QuietButton } from "~/components/forms/Field";
 import type { Route } from "./+types/project-sea-level";
 
 export const meta = () => [{ title: "Sea level · Lowstand" }];
@@ -64,12 +64,7 @@ export default function ProjectSeaLevel({ loaderData }: Route.ComponentProps) {
   return (
     <div className="max-w-5xl space-y-6">
       <h1 className="text-2xl font-semibold">Sea level</h1>
-      <FormProblemNote message={result && "error" in result ? result.error : null} />
-      {result && "ok" in result ? (
-        <p role="status" className="text-sm">
-          {result.ok}
-        </p>
-      ) : null}
+      <FormOutcome result={result} />
       <figure>
         <SeaLevelChart curves={chartCurves} indexPoints={indexPoints} />
         <figcaption className="text-xs text-sediment-600">

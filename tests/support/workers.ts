@@ -5,6 +5,17 @@ import path from "node:path";
 
 const ROOT = path.resolve(import.meta.dirname, "../..");
 
+/** Short job-runner timings for tests (heartbeat 0.3 s, stale after 2 s, retry after 1 s), read by jobSettings() at use. */
+export const FAST_JOB_SETTINGS: Record<string, string> = {
+  LOWSTAND_JOB_HEARTBEAT_MS: "300",
+  LOWSTAND_JOB_POLL_MS: "100",
+  LOWSTAND_JOB_STALE_AFTER_S: "2",
+  LOWSTAND_JOB_REAPER_INTERVAL_MS: "500",
+  LOWSTAND_JOB_RETRY_LIMIT: "2",
+  LOWSTAND_JOB_RETRY_DELAY_S: "1",
+  LOWSTAND_JOB_FETCH_INTERVAL_MS: "500",
+};
+
 export interface WorkerHandle {
   proc: ChildProcess;
   output: string[];

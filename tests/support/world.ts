@@ -95,10 +95,14 @@ type RouteFn = (args: any) => unknown;
 
 /** Calls a loader or action as React Router would, returning a Response for thrown or returned results. */
 export async function call(fn: RouteFn, path: string, o: CallOptions = {}): Promise<Response> {
-  const request = makeRequest(path, o);
+  return callWith(fn, makeRequest(path, o), o.params ?? {}, o.clientAddress);
+}
+
+/** The same, with a Request made by the caller (multipart bodies, say). */
+export async function callWith(fn: RouteFn, request: Request, params: Record<string, string>, clientAddress = "127.0.0.1"): Promise<Response> {
   try {
-    const context: LowstandLoadContext = { clientAddress: o.clientAddress ?? "127.0.0.1", requestId: "test" };
-    const out = await fn({ request, url: new URL(request.url), pattern: new URL(request.url).pathname, params: o.params ?? {}, context });
+    const context: LowstandLoadContext = { clientAddress, requestId: "test" };
+    const out = await fn({ request, url: new URL(request.url), pattern: new URL(request.url).pathname, params, context });
     return toResponse(out);
   } catch (e) {
     if (e instanceof Response) return e;

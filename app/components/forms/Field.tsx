@@ -71,3 +71,48 @@ export function DangerButton({ children, ...rest }: React.ButtonHTMLAttributes<H
     </button>
   );
 }
+
+/** What an action answered: its problem (an alert) or its outcome (a status line). */
+export function FormOutcome({ result }: { result: unknown }) {
+  const r = (result ?? {}) as { error?: string; ok?: string };
+  return (
+    <>
+      <FormProblemNote message={r.error} />
+      {r.ok ? (
+        <p role="status" className="text-sm">
+          {r.ok}
+        </p>
+      ) : null}
+    </>
+  );
+}
+
+/** A labelled choice among named items, with an optional "none" first. */
+export function ChoiceField({
+  label,
+  name,
+  items,
+  none,
+  hint,
+}: {
+  label: string;
+  name: string;
+  items: Array<{ id: number; name: string }>;
+  none?: string;
+  hint?: ReactNode;
+}) {
+  return (
+    <label className="text-sm">
+      <span className="block font-medium">{label}</span>
+      <select name={name} defaultValue={none !== undefined ? "" : undefined} className="mt-1 block w-full rounded-sm border border-sand-300 bg-white px-2 py-1.5">
+        {none !== undefined ? <option value="">{none}</option> : null}
+        {items.map((d) => (
+          <option key={d.id} value={d.id}>
+            {d.name}
+          </option>
+        ))}
+      </select>
+      {hint ? <span className="text-xs text-sediment-600">{hint}</span> : null}
+    </label>
+  );
+}
