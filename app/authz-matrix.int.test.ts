@@ -92,6 +92,10 @@ const MATRIX: Record<string, Probe[]> = {
     { method: "PATCH", path: (w) => `/api/projects/${w.projectId}/members/999999`, params: (w) => ({ ...pid(w), userId: "999999" }), options: { json: { role: "viewer" } }, expect: projectPage(["owner", "lead"]) },
     { method: "DELETE", path: (w) => `/api/projects/${w.projectId}/members/999999`, params: (w) => ({ ...pid(w), userId: "999999" }), expect: projectPage(["owner", "lead"]) },
   ],
+  "routes/project-settings.tsx": [
+    { method: "GET", path: (w) => `/projects/${w.projectId}/settings`, params: pid, expect: projectPage(["owner", "lead"]) },
+    { method: "POST", path: (w) => `/projects/${w.projectId}/settings`, params: pid, options: { form: { name: "" } }, expect: projectPage(["owner", "lead"]) },
+  ],
   "routes/project-datasets.tsx": [
     { method: "GET", path: (w) => `/projects/${w.projectId}/data`, params: pid, expect: projectPage(MEMBERS) },
     { method: "POST", path: (w) => `/projects/${w.projectId}/data`, params: pid, options: { form: { kind: "bathymetry" } }, expect: projectPage(UPLOADERS) },

@@ -12,6 +12,7 @@ import { makeElevationGrid } from "~/terrain/grid";
 import { store } from "~/storage.server";
 import * as dataPage from "~/routes/project-datasets";
 import * as sitesPage from "~/routes/project-sites";
+import * as settingsPage from "~/routes/project-settings";
 import * as apiDatasets from "~/routes/api.project-datasets";
 import * as apiDataset from "~/routes/api.dataset";
 import * as apiSites from "~/routes/api.project-sites";
@@ -185,6 +186,20 @@ describe("known sites stay confidential", () => {
     const page = await callWith(sitesPage.loader, new Request(new URL(`/projects/${pid()}/sites`, ORIGIN), { headers: { Cookie: world.cookies.viewer } }), { projectId: pid() });
     const pageText = await page.text();
     for (const c of coords) expect(pageText).not.toContain(c);
+  });
+
+  it("generalises for viewers by the project's own settings, which owners and leads change", async () => {
+    const post = (cookie: string, body: string) =>
+      callWith(settingsPage.action, new Request(new URL(`/projects/${pid()}/settings`, ORIGIN), { method: "POST", headers: { Cookie: cookie, Origin: ORIGIN, "Content-Type": "application/x-www-form-urlencoded" }, body }), { projectId: pid() });
+    const tooFine = await post(world.cookies.lead, "name=Farrow+Deep&summary=&siteGeneralisationM=50&siteMinCount=1");
+    expect(tooFine.status).toBe(422);
+    expect((await tooFine.json()).error).toMatch(/100 m/);
+    expect((await post(world.cookies.analyst, "name=Farrow+Deep&summary=&siteGeneralisationM=5000&siteMinCount=1")).status).toBe(403);
+    expect((await post(world.cookies.lead, "name=Farrow+Deep&summary=&siteGeneralisationM=5000&siteMinCount=1")).status).toBe(200);
+    const viewer = await (await callWith(apiSites.loader, new Request(new URL(`/api/projects/${pid()}/sites`, ORIGIN), { headers: { Cookie: world.cookies.viewer } }), { projectId: pid() })).json();
+    expect(viewer.generalised).toMatchObject({ cellSizeM: 5000, minCount: 1, suppressed: 0 });
+    // 481234.5, 5021987.25 etc. all fall in the 5 km cell centred on (482500, 5022500).
+    expect(viewer.generalised.cells).toEqual([{ x: 482_500, y: 5_022_500, count: 3 }]);
   });
 
   it("lets only leads and owners export exact positions, and logs each export", async () => {

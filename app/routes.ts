@@ -15,6 +15,7 @@ export default [
     index("routes/project-overview.tsx"),
     route("members", "routes/project-members.tsx"),
     route("audit", "routes/project-audit.tsx"),
+    route("settings", "routes/project-settings.tsx"),
     route("data", "routes/project-datasets.tsx"),
     route("data/:datasetId", "routes/project-dataset.tsx"),
     route("sites", "routes/project-sites.tsx"),

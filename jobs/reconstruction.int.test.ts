@@ -108,6 +108,20 @@ describe("a reconstruction", () => {
       expect(differ, `${l.name}@${l.ageKa}: cells that differ`).toBe(0);
     }
 
+    // The display copy for the map decodes to the layer's values within half a quantisation step.
+    const q = await callWith(apiLayer.loader, new Request(new URL(`/api/reconstructions/${id}/layers/flooding_age?display=16`, ORIGIN), { headers: { Authorization: `Bearer ${token}` } }), { id: String(id), layer: "flooding_age" });
+    expect(q.status).toBe(200);
+    const scale = Number(q.headers.get("X-Lowstand-Scale"));
+    const offset = Number(q.headers.get("X-Lowstand-Offset"));
+    const nodataCode = Number(q.headers.get("X-Lowstand-Nodata-Code"));
+    const codes = new Uint16Array(await q.arrayBuffer());
+    const exact = direct.get("flooding_age@null")!.data as Float32Array;
+    expect(codes.length).toBe(exact.length);
+    for (let i = 0; i < exact.length; i++) {
+      if (exact[i] !== exact[i]) expect(codes[i]).toBe(nodataCode);
+      else expect(Math.abs(codes[i] * scale + offset - exact[i])).toBeLessThanOrEqual(scale / 2 + 1e-6);
+    }
+
     const again = await start(params());
     expect(again.status).toBe(200);
     expect(again.body).toMatchObject({ reused: true, reconstruction: { id } });
