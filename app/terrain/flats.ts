@@ -87,12 +87,14 @@ export function resolveFlats(surface: Grid<Float32Array>, directions: Uint8Array
   const lowQ = new CellQueue(1024);
   const highQ = new CellQueue(1024);
   const isLowEdge = new Uint8Array(n);
+  // Only flat cells and their neighbours can be edges, so only flat cells are visited: a flat cell is
+  // a high edge if a neighbour is higher; a valid non-flat neighbour of equal elevation is a low edge.
+  // (Multi-source breadth-first distances do not depend on the order the sources are queued in.)
   for (let i = 0; i < n; i++) {
-    if (nodata[i]) continue;
+    if (label[i] === 0) continue;
     const r = (i / w) | 0;
     const col = i - r * w;
-    const flat = dirs[i] === D8_PIT;
-    let low = false;
+    const zi = z[i];
     let high = false;
     for (let k = 0; k < 8; k++) {
       const rr = r + D8_DROW[k];
@@ -100,12 +102,11 @@ export function resolveFlats(surface: Grid<Float32Array>, directions: Uint8Array
       if (rr < 0 || rr >= h || cc < 0 || cc >= w) continue;
       const m = rr * w + cc;
       if (nodata[m]) continue;
-      if (!flat && dirs[m] === D8_PIT && z[m] === z[i]) low = true;
-      if (flat && z[m] > z[i]) high = true;
-    }
-    if (low) {
-      isLowEdge[i] = 1;
-      lowQ.push(i);
+      if (z[m] > zi) high = true;
+      else if (dirs[m] !== D8_PIT && z[m] === zi && isLowEdge[m] === 0) {
+        isLowEdge[m] = 1;
+        lowQ.push(m);
+      }
     }
     if (high) {
       away[i] = 1;

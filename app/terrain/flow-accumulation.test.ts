@@ -33,7 +33,18 @@ describe("flowAccumulation — D8, topological order", () => {
       expect(flat.unresolvedCount).toBe(0);
       const { width: w } = g.spec;
       const n = g.data.length;
-      const { upstreamCells: acc, validCount } = flowAccumulation(g.spec, dirs, g.nodata);
+      const { upstreamCells: acc, validCount, order } = flowAccumulation(g.spec, dirs, g.nodata);
+      // order: every valid cell once, each before the cell it drains to
+      const pos = new Int32Array(n).fill(-1);
+      for (let k = 0; k < validCount; k++) {
+        expect(pos[order[k]]).toBe(-1);
+        expect(g.nodata[order[k]]).toBe(0);
+        pos[order[k]] = k;
+      }
+      for (let i = 0; i < n; i++) {
+        const d = g.nodata[i] ? -1 : downstreamIndex(w, i, dirs[i]);
+        if (d >= 0) expect(pos[d]).toBeGreaterThan(pos[i]);
+      }
       // brute force: walk down from every cell, counting at each cell passed and at the outlet
       const brute = new Int32Array(n);
       const reachedOutlet = new Int32Array(n);

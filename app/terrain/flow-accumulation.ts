@@ -14,8 +14,9 @@ export interface Accumulation {
 
 /**
  * Flow accumulation on D8 directions by topological order (Kahn's algorithm over the drainage tree:
- * in-degrees, then a queue of cells with nothing left upstream) — no recursion, so deep networks on
- * large grids cannot overflow the stack.
+ * in-degrees, then every cell with nothing left upstream is taken, walking down from each source in
+ * raster order as far as the cells reached have nothing else upstream) — no recursion, so deep
+ * networks on large grids cannot overflow the stack. `order` is that topological order.
  *
  * O'Callaghan, J.F. & Mark, D.M. (1984) Computer Vision, Graphics, and Image Processing 28(3): 323–344;
  * Jenson, S.K. & Domingue, J.O. (1988) Photogrammetric Engineering and Remote Sensing 54(11): 1593–1600.
@@ -34,40 +35,61 @@ export function flowAccumulation(
   const { width: w, height: h } = spec;
   const n = w * h;
   assertLayerSize(spec, directions, "flow directions");
-  const down = new Int32Array(n).fill(-1);
-  const indeg = new Int32Array(n);
+  // the downstream step of each cell as a D8 code, 8 where it drains nowhere (outlet, pit, nodata,
+  // off the grid or into nodata), and in-degrees (at most 8; 255 once the cell is taken): bytes, not
+  // int32 indices, so more of them stay in cache
+  const down = new Uint8Array(n);
+  const indeg = new Uint8Array(n);
+  const off = new Int32Array(9);
+  for (let k = 0; k < 8; k++) off[k] = D8_DROW[k] * w + D8_DCOL[k];
   let valid = 0;
-  for (let i = 0; i < n; i++) {
-    if (nodata[i]) continue;
-    valid++;
-    const d = directions[i];
-    if (d > 7) continue;
-    const r = ((i / w) | 0) + D8_DROW[d];
-    const c = (i % w) + D8_DCOL[d];
-    if (r < 0 || r >= h || c < 0 || c >= w) continue;
-    const m = r * w + c;
-    if (nodata[m]) continue;
-    down[i] = m;
-    indeg[m]++;
+  for (let r = 0; r < h; r++) {
+    const edgeRow = r === 0 || r === h - 1;
+    const o = r * w;
+    for (let c = 0; c < w; c++) {
+      const i = o + c;
+      down[i] = 8;
+      if (nodata[i]) continue;
+      valid++;
+      const d = directions[i];
+      if (d > 7) continue;
+      if (edgeRow || c === 0 || c === w - 1) {
+        const rr = r + D8_DROW[d];
+        const cc = c + D8_DCOL[d];
+        if (rr < 0 || rr >= h || cc < 0 || cc >= w) continue;
+      }
+      const m = i + off[d];
+      if (nodata[m]) continue;
+      down[i] = d;
+      indeg[m]++;
+    }
   }
   const ticker = new Ticker(control, valid, "flow accumulation");
   ticker.start();
   const acc = new Int32Array(n);
   const order = new Int32Array(valid);
-  let head = 0;
   let tail = 0;
+  // Kahn's algorithm, taking each cell as soon as it is ready: from every source (in raster order)
+  // walk downstream while the cell reached has nothing left upstream — consecutive cells are
+  // neighbours, so memory is read along flow paths rather than all over the grid
   for (let i = 0; i < n; i++) {
-    if (nodata[i]) acc[i] = -1;
-    else if (indeg[i] === 0) order[tail++] = i;
-  }
-  while (head < tail) {
-    const c = order[head++];
-    const m = down[c];
-    if (m >= 0) {
-      acc[m] += acc[c] + 1;
-      if (--indeg[m] === 0) order[tail++] = m;
+    if (nodata[i]) {
+      acc[i] = -1;
+      continue;
     }
-    ticker.tick(head);
+    if (indeg[i] !== 0) continue; // upstream cells left, or already taken (255)
+    let c = i;
+    for (;;) {
+      order[tail++] = c;
+      indeg[c] = 255;
+      const d = down[c];
+      if (d === 8) break;
+      const m = c + off[d];
+      acc[m] += acc[c] + 1;
+      if (--indeg[m] !== 0) break;
+      c = m;
+    }
+    ticker.tick(tail);
   }
   if (tail !== valid) {
     throw new Error(`flow directions contain a cycle: ${valid - tail} cells never drain (engine bug)`);

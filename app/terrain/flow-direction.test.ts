@@ -1,7 +1,7 @@
 import { describe, expect, it } from "vitest";
 import { downstreamIndex, flowDirectionD8 } from "./flow-direction";
-import { D8_NODATA, D8_OUTLET, D8_PIT } from "./grid";
-import { gridFromRows } from "./test-utils";
+import { D8_DCOL, D8_DROW, D8_NODATA, D8_OUTLET, D8_PIT, d8Distances } from "./grid";
+import { gridFromRows, prng, randomTerrain } from "./test-utils";
 
 const H = 20; // "others higher"
 
@@ -56,5 +56,40 @@ describe("flowDirectionD8 — O'Callaghan & Mark (1984); Jenson & Domingue (1988
     expect(dir[0]).toBe(1); // the corner 5 drains to the pit 1 (south-east)
     expect(downstreamIndex(4, 7, dir[7])).toBe(11);
     expect(downstreamIndex(4, 5, dir[5])).toBe(-1);
+  });
+
+  it("equals a plain per-cell reference (drop ÷ distance, first steepest in code order) on random grids (formula)", () => {
+    for (let seed = 1; seed <= 20; seed++) {
+      const rnd = prng(500 + seed);
+      const w = 3 + Math.floor(rnd() * 25);
+      const h = 3 + Math.floor(rnd() * 25);
+      const g = randomTerrain(seed, w, h, { nodataFraction: seed % 3 ? 0.1 : 0, cellSizeX: 30, cellSizeY: seed % 2 ? 30 : 20, quantum: seed % 2 ? 0.5 : 2 });
+      const outlets = new Uint8Array(w * h);
+      for (let i = 0; i < w * h; i++) if (!g.nodata[i] && rnd() < 0.05) outlets[i] = 1;
+      const dir = flowDirectionD8(g, outlets);
+      const dist = d8Distances(g.spec);
+      for (let r = 0; r < h; r++) {
+        for (let c = 0; c < w; c++) {
+          const i = r * w + c;
+          let want: number = D8_PIT;
+          if (g.nodata[i]) want = D8_NODATA;
+          else if (outlets[i]) want = D8_OUTLET;
+          else {
+            let best = 0;
+            for (let k = 0; k < 8; k++) {
+              const rr = r + D8_DROW[k];
+              const cc = c + D8_DCOL[k];
+              if (rr < 0 || rr >= h || cc < 0 || cc >= w || g.nodata[rr * w + cc]) continue;
+              const grad = (g.data[i] - g.data[rr * w + cc]) * (1 / dist[k]);
+              if (grad > best) {
+                best = grad;
+                want = k;
+              }
+            }
+          }
+          expect(dir[i], `seed ${seed} cell ${i}`).toBe(want);
+        }
+      }
+    }
   });
 });

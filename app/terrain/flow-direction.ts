@@ -28,6 +28,10 @@ export function flowDirectionD8(surface: Grid<Float32Array>, outlets: Uint8Array
   const inv = new Float64Array(8);
   for (let k = 0; k < 8; k++) inv[k] = 1 / dist[k];
   const dir = new Uint8Array(n);
+  const [i0, i1, i2, i3, i4, i5, i6, i7] = inv;
+  // neighbour offsets in code order E, SE, S, SW, W, NW, N, NE
+  const oSE = w + 1;
+  const oSW = w - 1;
   for (let r = 0; r < h; r++) {
     const interior = r > 0 && r < h - 1;
     for (let c = 0; c < w; c++) {
@@ -43,11 +47,24 @@ export function flowDirectionD8(surface: Grid<Float32Array>, outlets: Uint8Array
       const zi = z[i];
       let best = 0;
       let bestK = D8_PIT;
-      const inside = interior && c > 0 && c < w - 1;
+      if (interior && c > 0 && c < w - 1) {
+        // the same gradients, comparisons and tie order as the general loop below, unrolled
+        let g: number;
+        if (nodata[i + 1] === 0 && (g = (zi - z[i + 1]) * i0) > best) (best = g), (bestK = 0);
+        if (nodata[i + oSE] === 0 && (g = (zi - z[i + oSE]) * i1) > best) (best = g), (bestK = 1);
+        if (nodata[i + w] === 0 && (g = (zi - z[i + w]) * i2) > best) (best = g), (bestK = 2);
+        if (nodata[i + oSW] === 0 && (g = (zi - z[i + oSW]) * i3) > best) (best = g), (bestK = 3);
+        if (nodata[i - 1] === 0 && (g = (zi - z[i - 1]) * i4) > best) (best = g), (bestK = 4);
+        if (nodata[i - oSE] === 0 && (g = (zi - z[i - oSE]) * i5) > best) (best = g), (bestK = 5);
+        if (nodata[i - w] === 0 && (g = (zi - z[i - w]) * i6) > best) (best = g), (bestK = 6);
+        if (nodata[i - oSW] === 0 && (g = (zi - z[i - oSW]) * i7) > best) (best = g), (bestK = 7);
+        dir[i] = bestK;
+        continue;
+      }
       for (let k = 0; k < 8; k++) {
         const rr = r + D8_DROW[k];
         const cc = c + D8_DCOL[k];
-        if (!inside && (rr < 0 || rr >= h || cc < 0 || cc >= w)) continue;
+        if (rr < 0 || rr >= h || cc < 0 || cc >= w) continue;
         const m = rr * w + cc;
         if (nodata[m]) continue;
         const g = (zi - z[m]) * inv[k];
