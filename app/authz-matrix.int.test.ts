@@ -148,6 +148,18 @@ const MATRIX: Record<string, Probe[]> = {
   "routes/api.reconstruction-layer-preview.ts": [
     { method: "GET", path: () => `/api/reconstructions/x/layers/slope_deg/preview.png`, params: () => ({ id: String(reconstructionId), layer: "slope_deg" }), expect: projectPage([...MEMBERS, "viewerToken"]) },
   ],
+  "routes/api.project-map.ts": [
+    { method: "GET", path: (w) => `/api/projects/${w.projectId}/map`, params: pid, expect: projectPage([...MEMBERS, "viewerToken"]) },
+    { method: "POST", path: (w) => `/api/projects/${w.projectId}/map`, params: pid, options: { json: {} }, expect: projectPage([...MEMBERS, "viewerToken"]) },
+  ],
+  "routes/api.reconstruction-vectors.ts": [
+    { method: "GET", path: () => `/api/reconstructions/x/vectors/shoreline?age=12`, params: () => ({ id: String(reconstructionId), what: "shoreline" }), expect: projectPage([...MEMBERS, "viewerToken"]) },
+    { method: "POST", path: () => `/api/reconstructions/x/vectors/shoreline`, params: () => ({ id: String(reconstructionId), what: "shoreline" }), options: { json: {} }, expect: projectPage([...MEMBERS, "viewerToken"]) },
+  ],
+  "routes/api.reconstruction-section.ts": [
+    { method: "GET", path: () => `/api/reconstructions/x/section?from=0,0&to=1,1`, params: () => ({ id: String(reconstructionId) }), expect: projectPage([...MEMBERS, "viewerToken"]) },
+    { method: "POST", path: () => `/api/reconstructions/x/section`, params: () => ({ id: String(reconstructionId) }), options: { json: {} }, expect: projectPage([...MEMBERS, "viewerToken"]) },
+  ],
   "routes/api.job.ts": [
     { method: "GET", path: () => `/api/jobs/x`, params: () => ({ jobId }), expect: projectPage([...MEMBERS, "viewerToken"]) },
     { method: "POST", path: () => `/api/jobs/x`, params: () => ({ jobId }), options: { json: {} }, expect: projectPage([...MEMBERS, "viewerToken"]) },

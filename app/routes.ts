@@ -38,6 +38,9 @@ export default [
   route("api/reconstructions/:id", "routes/api.reconstruction.ts"),
   route("api/reconstructions/:id/layers/:layer", "routes/api.reconstruction-layer.ts"),
   route("api/reconstructions/:id/layers/:layer/preview.png", "routes/api.reconstruction-layer-preview.ts"),
+  route("api/reconstructions/:id/vectors/:what", "routes/api.reconstruction-vectors.ts"),
+  route("api/reconstructions/:id/section", "routes/api.reconstruction-section.ts"),
+  route("api/projects/:projectId/map", "routes/api.project-map.ts"),
   route("api/jobs/:jobId", "routes/api.job.ts"),
   route("api/jobs/:jobId/cancel", "routes/api.job-cancel.ts"),
 ] satisfies RouteConfig;

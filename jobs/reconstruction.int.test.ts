@@ -20,6 +20,9 @@ import * as apiDatasets from "~/routes/api.project-datasets";
 import * as apiRecons from "~/routes/api.project-reconstructions";
 import * as apiLayer from "~/routes/api.reconstruction-layer";
 import * as apiJob from "~/routes/api.job";
+import * as apiMap from "~/routes/api.project-map";
+import * as apiVectors from "~/routes/api.reconstruction-vectors";
+import * as apiSection from "~/routes/api.reconstruction-section";
 import { stopBoss } from "./boss.server";
 import { buildWorld, callWith, ORIGIN, type World } from "../tests/support/world";
 import { FAST_JOB_SETTINGS, startWorker, stopWorkers, waitFor, workers } from "../tests/support/workers";
@@ -121,6 +124,33 @@ describe("a reconstruction", () => {
       if (exact[i] !== exact[i]) expect(codes[i]).toBe(nodataCode);
       else expect(Math.abs(codes[i] * scale + offset - exact[i])).toBeLessThanOrEqual(scale / 2 + 1e-6);
     }
+
+    // What the map draws: the payload, a shoreline traced between sea and land, a section.
+    const map = await (await callWith(apiMap.loader, new Request(new URL(`/api/projects/${world.projectId}/map`, ORIGIN), { headers: { Authorization: `Bearer ${token}` } }), { projectId: String(world.projectId) })).json();
+    expect(map.reconstruction).toMatchObject({ id, agesKa: [14, 10] });
+    expect(map.seaLevel.label).toMatch(/far-field/);
+    const shore = await (await callWith(apiVectors.loader, new Request(new URL(`/api/reconstructions/${id}/vectors/shoreline?age=10`, ORIGIN), { headers: { Authorization: `Bearer ${token}` } }), { id: String(id), what: "shoreline" })).json();
+    expect(shore.features.length).toBeGreaterThan(0);
+    const classes = direct.get("land_class@10")!.data;
+    const g = seabed.spec;
+    const wet = (c: number, r: number) => (c < 0 || r < 0 || c >= g.width || r >= g.height ? 0 : classes[r * g.width + c] === 1 || classes[r * g.width + c] === 2 ? 1 : 0);
+    for (const f of shore.features.slice(0, 20)) {
+      for (const [x, y] of f.geometry.coordinates as [number, number][]) {
+        // each vertex sits midway between a wet cell and a dry one (formula: cell centres ± half a cell)
+        const cf = (x - g.originX) / g.cellSizeX - 0.5;
+        const rf = (g.originY - y) / g.cellSizeY - 0.5;
+        const [a, b] = Number.isInteger(cf) ? [wet(cf, Math.floor(rf)), wet(cf, Math.ceil(rf))] : [wet(Math.floor(cf), rf), wet(Math.ceil(cf), rf)];
+        expect(a).not.toBe(b);
+      }
+    }
+    const from = `${g.originX + 100},${g.originY - 1600}`;
+    const to = `${g.originX + g.width * g.cellSizeX - 100},${g.originY - 1600}`;
+    const sec = await (await callWith(apiSection.loader, new Request(new URL(`/api/reconstructions/${id}/section?from=${from}&to=${to}`, ORIGIN), { headers: { Authorization: `Bearer ${token}` } }), { id: String(id) })).json();
+    expect(sec.ages.map((a: { ageKa: number }) => a.ageKa).sort()).toEqual([10, 14]);
+    const s0 = sec.samples[0];
+    const cell = Math.floor((g.originY - s0.y) / g.cellSizeY) * g.width + Math.floor((s0.x - g.originX) / g.cellSizeX);
+    expect(s0.seabedM).toBeCloseTo(seabed.data[cell], 4);
+    expect(sec.samples.length).toBeGreaterThan(g.width);
 
     const again = await start(params());
     expect(again.status).toBe(200);
