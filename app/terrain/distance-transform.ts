@@ -124,21 +124,55 @@ export function euclideanDistance(
       if (below < d[i]) d[i] = below;
     }
   }
-  // pass 2 (rows, spacing cellSizeX): counts → squared metres, the lower envelope of parabolas, then
-  // the square root
+  // pass 2 (rows, spacing cellSizeX): counts → squared metres, the lower envelope of parabolas
+  // (squaredDistance1D's arithmetic, inlined: the same operations in the same order), then the square
+  // root of the squared distance rounded to Float32
   const m = width;
   const v = new Int32Array(m);
   const z = new Float64Array(m + 1);
   const fv = new Float64Array(m);
-  const row = new Float64Array(m);
+  const g = new Float64Array(m); // fv[q] / s2 + q², the parabola's term that does not depend on p
+  const s2 = cellSizeX * cellSizeX;
   for (let r = 0; r < height; r++) {
     const o = r * width;
-    for (let c = 0; c < width; c++) {
-      const k = d[o + c] * cellSizeY;
-      row[c] = k * k; // Infinity stays Infinity
+    let k = -1; // index of rightmost parabola in the envelope
+    for (let q = 0; q < width; q++) {
+      const kq = d[o + q] * cellSizeY;
+      const fq = kq * kq; // Infinity stays Infinity
+      fv[q] = fq;
+      if (fq === Infinity) continue;
+      const gq = fq / s2 + q * q;
+      g[q] = gq;
+      if (k < 0) {
+        k = 0;
+        v[0] = q;
+        z[0] = -Infinity;
+        z[1] = Infinity;
+        continue;
+      }
+      let sq = 0;
+      for (;;) {
+        const p = v[k];
+        sq = (gq - g[p]) / (2 * (q - p));
+        if (sq <= z[k]) k--;
+        else break;
+      }
+      k++;
+      v[k] = q;
+      z[k] = sq;
+      z[k + 1] = Infinity;
     }
-    squaredDistance1D(row, 0, 1, width, cellSizeX, d, o, 1, v, z, fv);
-    for (let i = o; i < o + width; i++) d[i] = Math.sqrt(d[i]);
+    if (k < 0) {
+      for (let i = o; i < o + width; i++) d[i] = Infinity;
+      continue;
+    }
+    let j = 0;
+    for (let q = 0; q < width; q++) {
+      while (z[j + 1] < q) j++;
+      const p = v[j];
+      const dq = (q - p) * cellSizeX;
+      d[o + q] = Math.sqrt(Math.fround(dq * dq + fv[p]));
+    }
   }
   return d;
 }

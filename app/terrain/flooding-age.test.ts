@@ -4,6 +4,8 @@ import {
   FLOOD_LAND_AT_END,
   FLOOD_SEA_THROUGHOUT,
   floodingHistory,
+  SortedLookup,
+  countBelow,
 } from "./flooding-age";
 import { CLASS_LAND, CLASS_SEA, classifyAtAge, oceanBoundaryMask, spillElevation } from "./flooding";
 import type { Grid } from "./grid";
@@ -163,5 +165,22 @@ describe("floodingHistory — flooding age against the sea-level curve", () => {
     const hg = floodingHistory(grid, spill, grids);
     expect(hg.floodingAgeKa[0]).toBeCloseTo(15, 5);
     expect(() => floodingHistory(grid, spill, model, { windowKa: [0, 40] })).toThrow(/outside the sea-level model/);
+  });
+});
+
+describe("SortedLookup — bucketed countBelow", () => {
+  it("gives the binary search's count for every kind of value (formula)", () => {
+    const rnd = prng(4242);
+    for (let t = 0; t < 60; t++) {
+      const m = Math.floor(rnd() * 40);
+      const vals: number[] = [];
+      for (let k = 0; k < m; k++) vals.push(t % 3 === 0 ? Math.round(rnd() * 10) - 5 : (rnd() - 0.5) * 300); // ties when rounded
+      if (t % 7 === 0 && m > 3) vals.push(vals[0], vals[0], vals[1]); // repeated entries
+      const a = Float64Array.from(vals.sort((x, y) => x - y));
+      const lk = new SortedLookup(a, t % 5 === 0 ? 0 : 1 + Math.floor(rnd() * 4 * (m + 1)));
+      const probes = [NaN, Infinity, -Infinity, 0, -0, ...a, ...Array.from(a, (x) => x + 1e-9), ...Array.from(a, (x) => x - 1e-9)];
+      for (let k = 0; k < 200; k++) probes.push((rnd() - 0.5) * 400);
+      for (const x of probes) expect(lk.countBelow(x), `table ${t}, x = ${x}`).toBe(countBelow(a, x));
+    }
   });
 });

@@ -15,8 +15,9 @@
  * Method: for a single curve the functions "highest level so far" (running maximum from the old end),
  * "lowest level from here to the present" (running minimum from the young end), the count of falling
  * crossings and the time-below-level distribution are all monotone or piecewise linear in the level,
- * so each is tabulated once over the curve's breakpoints and looked up per cell by binary search.
- * Complexity O(k² + n log k) for k curve rows and n cells; per-age RSL grids are tabulated per
+ * so each is tabulated once over the curve's breakpoints and looked up per cell (by binary search,
+ * started from a table of level buckets so most look-ups take a comparison or two: SortedLookup).
+ * Complexity O(k² + n log k) for k curve rows and n cells (close to O(k² + n) in practice); per-age RSL grids are tabulated per
  * cell, O(n·g²) for g grids (meant for tens of grids, not hundreds).
  */
 import { type Grid, type RunControl, TerrainInputError, Ticker, assertLayerSize } from "./grid";
@@ -161,7 +162,7 @@ export function tabulateCurve(curve: SeaLevelCurve, young: number, old: number):
 }
 
 /** Number of entries of a sorted array strictly below x. */
-function countBelow(sorted: Float64Array, x: number): number {
+export function countBelow(sorted: Float64Array, x: number): number {
   let lo = 0;
   let hi = sorted.length;
   while (lo < hi) {
@@ -172,40 +173,99 @@ function countBelow(sorted: Float64Array, x: number): number {
   return lo;
 }
 
+/**
+ * countBelow on one sorted array, started from a table of equal-width level buckets: the bucket of x
+ * gives how many entries lie below the bucket's lower edge, and a short forward scan finishes the
+ * count, so a look-up costs one or two comparisons instead of a binary search. Same answers as
+ * countBelow for every x (it falls back to it where the bucket edge is not ≤ x, and for NaN).
+ * Building is O(m + buckets); with `buckets` = 0 every look-up is the binary search.
+ */
+export class SortedLookup {
+  private readonly lo: number;
+  private readonly scale: number;
+  private readonly edges: Float64Array;
+  private readonly start: Int32Array;
+  constructor(
+    readonly a: Float64Array,
+    buckets: number,
+  ) {
+    const m = a.length;
+    const lo = m > 0 ? a[0] : 0;
+    const span = m > 1 ? a[m - 1] - lo : 0;
+    const b = m > 1 && span > 0 && Number.isFinite(span) ? buckets : 0;
+    this.lo = lo;
+    this.scale = b > 0 ? b / span : 0;
+    this.edges = new Float64Array(b);
+    this.start = new Int32Array(b);
+    for (let k = 0; k < b; k++) {
+      const e = lo + k / this.scale;
+      this.edges[k] = e;
+      this.start[k] = countBelow(a, e);
+    }
+  }
+  countBelow(x: number): number {
+    const edges = this.edges;
+    const nb = edges.length;
+    if (nb === 0 || x !== x) return countBelow(this.a, x);
+    let k = Math.floor((x - this.lo) * this.scale);
+    if (k >= nb) k = nb - 1;
+    if (!(k >= 0) || edges[k] > x) return countBelow(this.a, x);
+    const a = this.a;
+    const m = a.length;
+    let j = this.start[k];
+    while (j < m && a[j] < x) j++;
+    return j;
+  }
+}
+
+/** Look-ups over the sorted columns of one CurveTables. */
+interface TableLookups {
+  maxLevel: SortedLookup;
+  fallLo: SortedLookup;
+  fallHi: SortedLookup;
+  tLevel: SortedLookup;
+}
+
+/** Look-ups for one curve's tables: bucketed (four buckets per entry) when many cells will use them. */
+function lookups(t: CurveTables, bucketed: boolean): TableLookups {
+  const make = (a: Float64Array) => new SortedLookup(a, bucketed ? 4 * a.length : 0);
+  return { maxLevel: make(t.maxLevel), fallLo: make(t.fallLo), fallHi: make(t.fallHi), tLevel: make(t.tLevel) };
+}
+
 /** Time (ka) within the window during which L < x. */
-function timeBelow(t: CurveTables, x: number): number {
+function timeBelow(t: CurveTables, ix: TableLookups, x: number): number {
   const y = t.tLevel;
   const last = y.length - 1;
   if (x <= y[0]) return 0;
   if (x > y[last]) return t.tBelowOrAt[last];
-  const q = countBelow(y, x); // y[q-1] < x ≤ y[q]
+  const q = ix.tLevel.countBelow(x); // y[q-1] < x ≤ y[q]
   if (y[q] === x) return t.tBelow[q];
   const f = (x - y[q - 1]) / (y[q] - y[q - 1]);
   return t.tBelowOrAt[q - 1] + f * (t.tBelow[q] - t.tBelowOrAt[q - 1]);
 }
 
 /** Time (ka) within the window during which lo ≤ L ≤ hi (measure; end points have measure zero except flat segments). */
-function timeBetween(t: CurveTables, lo: number, hi: number): number {
+function timeBetween(t: CurveTables, ix: TableLookups, lo: number, hi: number): number {
   if (hi < lo) return 0;
   // L ≤ hi minus L < lo
   const y = t.tLevel;
-  const q = countBelow(y, hi);
-  const belowOrAtHi = q < y.length && y[q] === hi ? t.tBelowOrAt[q] : timeBelow(t, hi);
-  return Math.max(0, belowOrAtHi - timeBelow(t, lo));
+  const q = ix.tLevel.countBelow(hi);
+  const belowOrAtHi = q < y.length && y[q] === hi ? t.tBelowOrAt[q] : timeBelow(t, ix, hi);
+  return Math.max(0, belowOrAtHi - timeBelow(t, ix, lo));
 }
 
 /**
  * Flooding history of one spill elevation against tabulated curve functions; writes into the output
  * arrays at index i. O(log k).
  */
-function evaluate(t: CurveTables, s: number, R: number, band: number, out: FloodingHistory, i: number): void {
+function evaluate(t: CurveTables, ix: TableLookups, s: number, R: number, band: number, out: FloodingHistory, i: number): void {
   // First flooding: the oldest age at which L ≥ s (running max reaches s).
   const mxL = t.maxLevel;
   const mxA = t.maxAge;
   if (mxL[0] >= s) out.firstFloodingAgeKa[i] = t.old;
   else if (mxL[mxL.length - 1] < s) out.firstFloodingAgeKa[i] = NaN;
   else {
-    const j = countBelow(mxL, s); // first vertex with level ≥ s; j ≥ 1
+    const j = ix.maxLevel.countBelow(s); // first vertex with level ≥ s; j ≥ 1
     const f = (s - mxL[j - 1]) / (mxL[j] - mxL[j - 1]);
     out.firstFloodingAgeKa[i] = mxA[j - 1] + f * (mxA[j] - mxA[j - 1]);
   }
@@ -236,10 +296,10 @@ function evaluate(t: CurveTables, s: number, R: number, band: number, out: Flood
     out.riseRateMPerKa[i] = (mnL[j - 1] - mnL[j]) / (mnA[j] - mnA[j - 1]);
   }
   // Re-exposures: falling segments with lo < s ≤ hi.
-  const re = countBelow(t.fallLo, s) - countBelow(t.fallHi, s);
+  const re = ix.fallLo.countBelow(s) - ix.fallHi.countBelow(s);
   out.reexposures[i] = re > 254 ? 254 : re;
-  out.timeNearCoastKa[i] = timeBetween(t, s - band, s + band);
-  out.timeIntertidalKa[i] = R > 0 ? timeBetween(t, s - R / 2, s + R / 2) : 0;
+  out.timeNearCoastKa[i] = timeBetween(t, ix, s - band, s + band);
+  out.timeIntertidalKa[i] = R > 0 ? timeBetween(t, ix, s - R / 2, s + R / 2) : 0;
 }
 
 function emptyHistory(n: number, windowKa: [number, number]): FloodingHistory {
@@ -303,6 +363,7 @@ export function floodingHistory(
   if (model.kind === "curve" || model.kind === "regional") {
     const curves = model.kind === "curve" ? [model.curve] : model.curves;
     const tables = curves.map((c) => tabulateCurve(c, young, old));
+    const ix = tables.map((t) => lookups(t, true));
     for (let i = 0; i < n; i++) {
       const zone = model.kind === "curve" ? 0 : model.zone[i];
       if (nodata[i] || zone === 255) {
@@ -310,7 +371,7 @@ export function floodingHistory(
         continue;
       }
       const R = typeof tidal === "number" ? tidal : tidal[i];
-      evaluate(tables[zone], spillM[i], R, band, out, i);
+      evaluate(tables[zone], ix[zone], spillM[i], R, band, out, i);
       ticker.tick(i);
     }
   } else {
@@ -342,7 +403,8 @@ export function floodingHistory(
         continue;
       }
       const R = typeof tidal === "number" ? tidal : tidal[i];
-      evaluate(tabulateCurve(curve, young, old), spillM[i], R, band, out, i);
+      const t = tabulateCurve(curve, young, old);
+      evaluate(t, lookups(t, false), spillM[i], R, band, out, i);
       ticker.tick(i);
     }
   }

@@ -224,14 +224,53 @@ export function analysisSurface(
 
 /** min, max, mean and count over valid cells (NaN for Float32, `nodata` code for integer layers). O(n). */
 export function layerStats(data: Layer, nodata: number | "NaN"): LayerStats {
+  // one loop per array type, so each stays monomorphic (the same sums in the same order)
+  const code = nodata === "NaN" ? NaN : nodata;
+  if (data instanceof Float32Array) return statsF32(data, code);
+  if (data instanceof Uint8Array) return statsU8(data, code);
+  return statsI32(data, code);
+}
+
+function statsF32(data: Float32Array, code: number): LayerStats {
   let k = 0;
   let mn = Infinity;
   let mx = -Infinity;
   let sum = 0;
-  const code = nodata === "NaN" ? NaN : nodata;
   for (let i = 0; i < data.length; i++) {
     const v = data[i];
     if (v !== v || v === code || v === Infinity || v === -Infinity) continue;
+    k++;
+    if (v < mn) mn = v;
+    if (v > mx) mx = v;
+    sum += v;
+  }
+  return k === 0 ? { validCount: 0, min: null, max: null, mean: null } : { validCount: k, min: mn, max: mx, mean: sum / k };
+}
+
+function statsU8(data: Uint8Array, code: number): LayerStats {
+  let k = 0;
+  let mn = Infinity;
+  let mx = -Infinity;
+  let sum = 0;
+  for (let i = 0; i < data.length; i++) {
+    const v = data[i];
+    if (v === code) continue;
+    k++;
+    if (v < mn) mn = v;
+    if (v > mx) mx = v;
+    sum += v;
+  }
+  return k === 0 ? { validCount: 0, min: null, max: null, mean: null } : { validCount: k, min: mn, max: mx, mean: sum / k };
+}
+
+function statsI32(data: Int32Array, code: number): LayerStats {
+  let k = 0;
+  let mn = Infinity;
+  let mx = -Infinity;
+  let sum = 0;
+  for (let i = 0; i < data.length; i++) {
+    const v = data[i];
+    if (v === code) continue;
     k++;
     if (v < mn) mn = v;
     if (v > mx) mx = v;

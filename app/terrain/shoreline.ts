@@ -44,6 +44,18 @@ function edgeOf(w: number, h: number, nodata: Uint8Array, water: Uint8Array): Ui
     for (let c = 0; c < w; c++) {
       const i = r * w + c;
       if (nodata[i] || water[i]) continue;
+      if (r > 0 && r < h - 1 && c > 0 && c < w - 1) {
+        // interior: the four edge neighbours without bounds checks
+        if (
+          (water[i + 1] && !nodata[i + 1]) ||
+          (water[i + w] && !nodata[i + w]) ||
+          (water[i - 1] && !nodata[i - 1]) ||
+          (water[i - w] && !nodata[i - w])
+        ) {
+          out[i] = 1;
+        }
+        continue;
+      }
       for (let k = 0; k < 8; k += 2) {
         const rr = r + D8_DROW[k];
         const cc = c + D8_DCOL[k];
