@@ -64,32 +64,80 @@ type FromWorker =
   | { type: "done"; ageKa: number | null; summary: AgeSummary | StaticSummary }
   | { type: "error"; name: string; message: string; stack?: string };
 
-type ToWorker = { type: "job"; ageKa: number | null } | { type: "ack" } | { type: "exit" };
+type ToWorker = { type: "job"; ageKa: number | null; ctx: AgeContext } | { type: "ack" } | { type: "exit" };
+
+/** Threads started ahead of the jobs (warmUp), with what they said before the pool took them over. */
+interface Pool {
+  workers: Worker[];
+  cancelFlag: Int32Array;
+  ready: Set<Worker>;
+  early: Map<Worker, { message: (m: FromWorker) => void; error: (e: Error) => void; exit: (code: number) => void }>;
+  earlyError: Error | null;
+}
+
+function startWorkers(threads: number): Pool {
+  const runTs = fileURLToPath(new URL("../../scripts/run-ts.mjs", import.meta.url));
+  const entry = fileURLToPath(import.meta.url);
+  const cancelFlag = new Int32Array(new SharedArrayBuffer(4));
+  const pool: Pool = { workers: [], cancelFlag, ready: new Set(), early: new Map(), earlyError: null };
+  for (let k = 0; k < threads; k++) {
+    const w = new Worker(runTs, { workerData: { entry, role: ROLE, cancelFlag } });
+    const h = {
+      message: (m: FromWorker) => {
+        if (m.type === "ready") pool.ready.add(w);
+      },
+      error: (e: Error) => {
+        pool.earlyError ??= e;
+      },
+      exit: (code: number) => {
+        pool.earlyError ??= new Error(`reconstruction worker stopped with exit code ${code}`);
+      },
+    };
+    w.on("message", h.message);
+    w.on("error", h.error);
+    w.on("exit", h.exit);
+    pool.workers.push(w);
+    pool.early.set(w, h);
+  }
+  return pool;
+}
 
 /**
  * An AgeRunner that runs the age-independent layers and the ages as jobs on `threads` worker
- * threads (default: the number of cores, at most the number of jobs).
+ * threads (default: the number of cores, at most the number of jobs). Its `warmUp` starts the
+ * threads while reconstruct() still builds the analysis surface and the spill elevation (loading a
+ * worker takes about half a second); `dispose` stops them if the ages are never handed over.
  */
 export function workerAgeRunner(options: { threads?: number } = {}): AgeRunner {
+  let pool: Pool | null = null;
+  const threadsFor = (jobs: number) => Math.max(1, Math.min(options.threads ?? availableParallelism(), jobs));
   // the context is copied onto shared memory here, outside the pool's closures, so the caller's
   // original arrays can be collected while the ages run
-  return (ctx, agesKa, emit, control) => runPool(shareContext(ctx), agesKa, emit, control, options.threads);
+  const runner: AgeRunner = (ctx, agesKa, emit, control) => {
+    const p = pool ?? startWorkers(threadsFor(agesKa.length + 1));
+    pool = null;
+    return runPool(p, shareContext(ctx), agesKa, emit, control);
+  };
+  runner.warmUp = (jobs) => {
+    pool ??= startWorkers(threadsFor(jobs));
+  };
+  runner.dispose = () => {
+    if (pool) for (const w of pool.workers) void w.terminate();
+    pool = null;
+  };
+  return runner;
 }
 
 function runPool(
+  pool: Pool,
   sctx: AgeContext,
   agesKa: readonly number[],
   emit: Parameters<AgeRunner>[2],
   control: Parameters<AgeRunner>[3],
-  threadsWanted: number | undefined,
 ): ReturnType<AgeRunner> {
   return new Promise((resolve, reject) => {
     const jobs: (number | null)[] = [null, ...agesKa];
-    const threads = Math.max(1, Math.min(threadsWanted ?? availableParallelism(), jobs.length));
-    const cancelFlag = new Int32Array(new SharedArrayBuffer(4));
-    const runTs = fileURLToPath(new URL("../../scripts/run-ts.mjs", import.meta.url));
-    const entry = fileURLToPath(import.meta.url);
-    const workers: Worker[] = [];
+    const { workers, cancelFlag } = pool;
     const inFlight = new Map<Worker, { ageKa: number | null; fraction: number }>();
     const ages: AgeSummary[] = [];
     let staticSummary: StaticSummary | null = null;
@@ -119,7 +167,7 @@ function runPool(
       if (next < jobs.length) {
         const ageKa = jobs[next++];
         inFlight.set(w, { ageKa, fraction: 0 });
-        w.postMessage({ type: "job", ageKa } satisfies ToWorker);
+        w.postMessage({ type: "job", ageKa, ctx: sctx } satisfies ToWorker);
       } else {
         inFlight.delete(w);
         w.postMessage({ type: "exit" } satisfies ToWorker);
@@ -127,9 +175,13 @@ function runPool(
     };
     // the sink is called for one layer at a time, in arrival order
     let sinkChain: Promise<void> = Promise.resolve();
-    for (let k = 0; k < threads; k++) {
-      const w = new Worker(runTs, { workerData: { entry, role: ROLE, ctx: sctx, cancelFlag } });
-      workers.push(w);
+    for (const w of workers) {
+      const early = pool.early.get(w);
+      if (early) {
+        w.off("message", early.message);
+        w.off("error", early.error);
+        w.off("exit", early.exit);
+      }
       w.on("message", (m: FromWorker) => {
         if (failed) return;
         if (m.type === "ready") give(w);
@@ -176,6 +228,13 @@ function runPool(
         if (code !== 0 && !failed && finished < jobs.length) fail(new Error(`reconstruction worker stopped with exit code ${code}`));
       });
     }
+    if (pool.earlyError) {
+      fail(pool.earlyError);
+      return;
+    }
+    // threads started by warmUp that have loaded already take their first job now; the others
+    // will say "ready" to the listener above
+    for (const w of workers) if (pool.ready.has(w)) give(w);
   });
 }
 
@@ -188,7 +247,6 @@ function transferList(l: LayerOut): ArrayBuffer[] {
 
 if (!isMainThread && workerData?.role === ROLE && parentPort) {
   const port = parentPort;
-  const ctx = workerData.ctx as AgeContext;
   const cancel = workerData.cancelFlag as Int32Array;
   let ack: (() => void) | null = null;
   const shouldCancel = () => Atomics.load(cancel, 0) === 1;
@@ -211,6 +269,7 @@ if (!isMainThread && workerData?.role === ROLE && parentPort) {
         onProgress: (fraction: number, step?: string) =>
           port.postMessage({ type: "progress", ageKa, fraction, step: step ?? "" } satisfies FromWorker),
       };
+      const ctx = m.ctx;
       const run = ageKa === null ? reconstructStatic(ctx, emit, control) : reconstructAge(ctx, ageKa, emit, control);
       run.then(
         (summary) => port.postMessage({ type: "done", ageKa, summary } satisfies FromWorker),

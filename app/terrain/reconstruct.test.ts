@@ -219,6 +219,26 @@ describe("reconstruct in worker threads", () => {
     ).rejects.toThrow(TerrainCancelled);
   }, 60000);
 
+  it("stops the threads it started ahead when the reconstruction fails before the ages", async () => {
+    const runner = workerAgeRunner({ threads: 2 });
+    let warmed = 0;
+    let disposed = 0;
+    const warmUp = runner.warmUp!;
+    const dispose = runner.dispose!;
+    runner.warmUp = (jobs) => {
+      warmed++;
+      warmUp(jobs);
+    };
+    runner.dispose = () => {
+      disposed++;
+      dispose();
+    };
+    // a boundary mask on no valid cell is refused after warmUp, when the spill elevation starts
+    const r = reconstruct({ ...baseInput(), oceanBoundary: { kind: "mask", mask: new Uint8Array(W * H) } }, { sink: () => {}, runAges: runner });
+    await expect(r).rejects.toThrow(TerrainInputError);
+    expect([warmed, disposed]).toEqual([1, 1]);
+  }, 60000);
+
   it("passes a bad input found inside a worker back as TerrainInputError", async () => {
     // reconstruct() checks the threshold itself, so the runner is handed a context that skips that
     // check, to see the worker's own TerrainInputError come back as one

@@ -117,13 +117,21 @@ export interface StaticSummary {
   timingsMs: Record<string, number>;
 }
 
-/** Runs the per-age work and the age-independent work; layers go to `emit`. */
-export type AgeRunner = (
+/**
+ * Runs the per-age work and the age-independent work; layers go to `emit`. A runner may also have
+ * `warmUp(jobs)`, which reconstruct() calls once the inputs are valid, before the analysis surface
+ * and the spill elevation, so it can get ready (start threads) meanwhile; and `dispose()`, which
+ * reconstruct() calls if it fails before handing the ages over, so nothing it started is left behind.
+ */
+export type AgeRunner = ((
   ctx: AgeContext,
   agesKa: readonly number[],
   emit: LayerSink,
   control: RunControl & { onAgeProgress?: (ageKa: number | null, fraction: number, step: string) => void },
-) => Promise<{ ages: AgeSummary[]; static: StaticSummary }>;
+) => Promise<{ ages: AgeSummary[]; static: StaticSummary }>) & {
+  warmUp?: (jobs: number) => void;
+  dispose?: () => void;
+};
 
 export interface ReconstructInput {
   /** seabed elevation, m relative to present mean sea level (after datum and sign conversion) */
@@ -578,6 +586,30 @@ export async function reconstruct(input: ReconstructInput, options: ReconstructO
     layers.push({ name: l.name, ageKa: l.ageKa, type: l.type, units: l.units, nodata: l.nodata, stats: l.stats });
     await options.sink(l);
   };
+  const runner = options.runAges ?? inlineAgeRunner;
+  runner.warmUp?.(agesSorted.length + 1);
+  try {
+    return await reconstructWith(runner, input, spec, control, sink, layers, agesSorted, {
+      young, old, tidal, tpiRadiusM, burnDepthM, coastBandM, shorelineTidalLevel,
+    });
+  } catch (e) {
+    runner.dispose?.();
+    throw e;
+  }
+}
+
+async function reconstructWith(
+  runner: AgeRunner,
+  input: ReconstructInput,
+  spec: GridSpec,
+  control: RunControl,
+  sink: LayerSink,
+  layers: ManifestLayer[],
+  agesSorted: number[],
+  p: { young: number; old: number; tidal: TidalRange; tpiRadiusM: number; burnDepthM: number; coastBandM: number; shorelineTidalLevel: number },
+): Promise<Manifest> {
+  const { seabed } = input;
+  const { young, old, tidal, tpiRadiusM, burnDepthM, coastBandM, shorelineTidalLevel } = p;
   const staticT: Record<string, number> = {};
   let t0 = performance.now();
   control.onProgress?.(0, "analysis surface");
@@ -629,7 +661,6 @@ export async function reconstruct(input: ReconstructInput, options: ReconstructO
   };
   as = null;
   spill = null;
-  const runner = options.runAges ?? inlineAgeRunner;
   const running = runner(ctx, agesSorted, sink, {
     shouldCancel: control.shouldCancel,
     onProgress: (f, s) => control.onProgress?.(0.1 + 0.9 * f, s),
