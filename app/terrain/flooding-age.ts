@@ -235,10 +235,17 @@ function lookups(t: CurveTables, bucketed: boolean): TableLookups {
 /** Time (ka) within the window during which L < x. */
 function timeBelow(t: CurveTables, ix: TableLookups, x: number): number {
   const y = t.tLevel;
+  if (x <= y[0] || x > y[y.length - 1]) return timeBelowQ(t, x, 0);
+  return timeBelowQ(t, x, ix.tLevel.countBelow(x));
+}
+
+/** timeBelow, given q = the number of tabulated levels below x (used only when y[0] < x ≤ y[last]). */
+function timeBelowQ(t: CurveTables, x: number, q: number): number {
+  const y = t.tLevel;
   const last = y.length - 1;
   if (x <= y[0]) return 0;
   if (x > y[last]) return t.tBelowOrAt[last];
-  const q = ix.tLevel.countBelow(x); // y[q-1] < x ≤ y[q]
+  // y[q-1] < x ≤ y[q]
   if (y[q] === x) return t.tBelow[q];
   const f = (x - y[q - 1]) / (y[q] - y[q - 1]);
   return t.tBelowOrAt[q - 1] + f * (t.tBelow[q] - t.tBelowOrAt[q - 1]);
@@ -250,7 +257,7 @@ function timeBetween(t: CurveTables, ix: TableLookups, lo: number, hi: number): 
   // L ≤ hi minus L < lo
   const y = t.tLevel;
   const q = ix.tLevel.countBelow(hi);
-  const belowOrAtHi = q < y.length && y[q] === hi ? t.tBelowOrAt[q] : timeBelow(t, ix, hi);
+  const belowOrAtHi = q < y.length && y[q] === hi ? t.tBelowOrAt[q] : timeBelowQ(t, hi, q);
   return Math.max(0, belowOrAtHi - timeBelow(t, ix, lo));
 }
 

@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { type LayerOut, type Manifest, analysisSurface, inlineAgeRunner, reconstruct } from "./reconstruct.ts";
+import { type LayerOut, type Manifest, analysisSurface, inlineAgeRunner, layerStats, reconstruct } from "./reconstruct.ts";
 import { workerAgeRunner } from "./reconstruct-worker.ts";
 import { TerrainCancelled, TerrainInputError, makeElevationGrid, type GridSpec } from "./grid.ts";
 import { defaultGlobalCurve, seaLevelAt } from "./sea-level.ts";
@@ -256,5 +256,35 @@ describe("reconstruct in worker threads", () => {
     const tidal = new Float32Array(W * H).fill(2);
     tidal[2 * W + 5] = -1;
     await expect(reconstruct({ ...baseInput(), tidalRangeM: tidal }, { sink: () => {} })).rejects.toThrow(/row 2, column 5/);
+  });
+});
+
+describe("layerStats", () => {
+  it("equals a cell-by-cell sum for every layer type and nodata code (formula)", () => {
+    const rnd = prng(99);
+    const reference = (d: ArrayLike<number>, code: number) => {
+      let k = 0;
+      let mn = Infinity;
+      let mx = -Infinity;
+      let sum = 0;
+      for (let i = 0; i < d.length; i++) {
+        const v = d[i];
+        if (Number.isNaN(v) || v === code || !Number.isFinite(v)) continue;
+        k++;
+        mn = Math.min(mn, v);
+        mx = Math.max(mx, v);
+        sum += v;
+      }
+      return k === 0 ? { validCount: 0, min: null, max: null, mean: null } : { validCount: k, min: mn, max: mx, mean: sum / k };
+    };
+    for (let t = 0; t < 12; t++) {
+      const n = 1 + Math.floor(rnd() * 5000);
+      const u8 = new Uint8Array(n).map(() => (t % 3 === 0 ? 255 : rnd() < 0.5 ? 0 : Math.floor(rnd() * 256)));
+      const i32 = new Int32Array(n).map(() => (rnd() < 0.1 ? -2147483648 : Math.floor((rnd() - 0.5) * 1e6)));
+      const f32 = new Float32Array(n).map(() => (rnd() < 0.1 ? NaN : rnd() < 0.05 ? Infinity : (rnd() - 0.5) * 1e3));
+      for (const code of [255, 0]) expect(layerStats(u8, code)).toEqual(reference(u8, code));
+      expect(layerStats(i32, -2147483648)).toEqual(reference(i32, -2147483648));
+      expect(layerStats(f32, "NaN")).toEqual(reference(f32, NaN));
+    }
   });
 });
