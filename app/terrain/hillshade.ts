@@ -40,16 +40,26 @@ export function hillshade(
   options: HillshadeOptions = {},
   nodata?: Uint8Array,
 ): Uint8Array {
+  const n = width * height;
+  const gx = new Float32Array(n);
+  const gy = new Float32Array(n);
+  hornGradient(elevation, width, height, cellSizeX, cellSizeY, gx, gy, nodata);
+  return hillshadeFromGradient(gx, gy, options);
+}
+
+/**
+ * The hillshade of {@link hillshade} from gradients already computed by hornGradient (dz/dx eastwards,
+ * dz/dy southwards, NaN on nodata) — for callers that need the gradient for slope and aspect too.
+ * O(n).
+ */
+export function hillshadeFromGradient(gx: Float32Array, gy: Float32Array, options: HillshadeOptions = {}): Uint8Array {
   const az = (options.azimuthDeg ?? 315) * DEG;
   const alt = (options.altitudeDeg ?? 45) * DEG;
   const zf = options.zFactor ?? 1;
   const lx = Math.cos(alt) * Math.sin(az);
   const ly = Math.cos(alt) * Math.cos(az);
   const lz = Math.sin(alt);
-  const n = width * height;
-  const gx = new Float32Array(n);
-  const gy = new Float32Array(n);
-  hornGradient(elevation, width, height, cellSizeX, cellSizeY, gx, gy, nodata);
+  const n = gx.length;
   const out = new Uint8Array(n);
   for (let i = 0; i < n; i++) {
     const p = gx[i] * zf;

@@ -43,11 +43,11 @@ import {
   validateSpec,
 } from "./grid.ts";
 import { heightAboveSea } from "./height-above-sea.ts";
-import { hillshade } from "./hillshade.ts";
+import { hillshadeFromGradient } from "./hillshade.ts";
 import type { HorizonResult } from "./horizon.ts";
 import { type SeaLevelModel, modelNotes, modelRange, seaLevelAt, seaLevelLayerAt, validateSeaLevelModel } from "./sea-level.ts";
 import { lakeMargins, riverMouths, seaAtTidalLevel, shorelineMask, waterMask } from "./shoreline.ts";
-import { slopeAspect } from "./slope-aspect.ts";
+import { hornGradient, slopeAspectFromGradient } from "./slope-aspect.ts";
 import { type SurveyLine, distanceToNearestLine } from "./survey-lines.ts";
 import { confluences, strahlerOrder, streamMask } from "./streams.ts";
 import { topographicPositionIndex } from "./tpi.ts";
@@ -345,15 +345,22 @@ export async function reconstructStatic(ctx: AgeContext, emit: LayerSink, contro
     checkCancel(control, name);
   };
   checkCancel(control, "slope and aspect");
-  const sa = slopeAspect(surface, w, h, dx, dy, nodata);
+  // one Horn gradient for the hillshade and for slope and aspect (which overwrite it in place)
+  const gx = new Float32Array(w * h);
+  const gy = new Float32Array(w * h);
+  hornGradient(surface, w, h, dx, dy, gx, gy, nodata);
+  const hs = hillshadeFromGradient(gx, gy);
+  const hillshadeMs = performance.now() - t0;
+  t0 = performance.now();
+  const sa = slopeAspectFromGradient(gx, gy);
   step("slope and aspect", 0.2);
   await emit(out("slope", null, "float32", "degrees", "NaN", sa.slopeDeg));
   await emit(out("aspect", null, "float32", "degrees clockwise from grid north", "NaN", sa.aspectDeg));
   const tpi = topographicPositionIndex(surface, w, h, dx, dy, ctx.tpiRadiusM, nodata);
   step("TPI", 0.35);
   await emit(out("tpi", null, "float32", "m", "NaN", tpi));
-  const hs = hillshade(surface, w, h, dx, dy, {}, nodata);
   step("hillshade", 0.45);
+  t.hillshade += hillshadeMs;
   await emit(out("hillshade", null, "uint8", "grey level 1–255", 0, hs));
   await emit(out("spill_elevation", null, "float32", "m", "NaN", ctx.spillM.slice()));
   const hist = floodingHistory({ spec, data: surface, nodata }, ctx.spillM, ctx.seaLevel, {

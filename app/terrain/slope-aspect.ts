@@ -94,6 +94,17 @@ export function slopeAspect(
   const aspectDeg = new Float32Array(width * height);
   // the outputs hold the gradient first, then are overwritten in place
   hornGradient(elevation, width, height, cellSizeX, cellSizeY, slopeDeg, aspectDeg, nodata);
+  return slopeAspectFromGradient(slopeDeg, aspectDeg);
+}
+
+/**
+ * Slope and aspect of {@link slopeAspect} from gradients computed by hornGradient, **in place**: `gx`
+ * (dz/dx) becomes the slope and `gy` (dz/dy) the aspect, in degrees; NaN stays NaN. For callers that
+ * use the gradient for something else first (the hillshade). O(n).
+ */
+export function slopeAspectFromGradient(gx: Float32Array, gy: Float32Array): { slopeDeg: Float32Array; aspectDeg: Float32Array } {
+  const slopeDeg = gx;
+  const aspectDeg = gy;
   for (let i = 0; i < slopeDeg.length; i++) {
     const gx = slopeDeg[i];
     const gy = aspectDeg[i];
