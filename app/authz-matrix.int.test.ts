@@ -133,6 +133,7 @@ const MATRIX: Record<string, Probe[]> = {
     { method: "GET", path: (w) => `/projects/${w.projectId}/sea-level`, params: pid, expect: projectPage(MEMBERS) },
     { method: "POST", path: (w) => `/projects/${w.projectId}/sea-level`, params: pid, options: { form: { intent: "nothing" } }, expect: projectPage(UPLOADERS) },
   ],
+  "routes/project-map.tsx": [{ method: "GET", path: (w) => `/projects/${w.projectId}/map`, params: pid, expect: projectPage(MEMBERS) }],
   "routes/api.project-reconstructions.ts": [
     { method: "GET", path: (w) => `/api/projects/${w.projectId}/reconstructions`, params: pid, expect: projectPage([...MEMBERS, "viewerToken"]) },
     { method: "POST", path: (w) => `/api/projects/${w.projectId}/reconstructions`, params: pid, options: { json: {} }, expect: projectPage(UPLOADERS) },

@@ -23,6 +23,7 @@ export default [
     route("reconstructions/:reconstructionId", "routes/project-reconstruction.tsx"),
     route("jobs/:jobId", "routes/project-job.tsx"),
     route("sea-level", "routes/project-sea-level.tsx"),
+    route("map", "routes/project-map.tsx"),
   ]),
   route("dev/outbox", "routes/dev-outbox.tsx"),
   route("api/me", "routes/api.me.ts"),

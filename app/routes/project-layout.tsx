@@ -17,6 +17,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 export default function ProjectLayout({ loaderData }: Route.ComponentProps) {
   const { user, project, role } = loaderData;
   const links = [
+    { to: `/projects/${project.id}/map`, label: "Map", end: false, show: true },
     { to: `/projects/${project.id}`, label: "Overview", end: true, show: true },
     { to: `/projects/${project.id}/data`, label: "Data", end: false, show: true },
     { to: `/projects/${project.id}/sites`, label: "Known sites", end: false, show: true },

@@ -1,0 +1,290 @@
+// The map workspace: the map (deck.gl, browser only) with the working panel beside it, the cursor
+// readout under it, the section drawer and the sea-level strip along the bottom. Every per-age
+// layer follows the age chosen on the strip.
+import { keepPreviousData, useQueries, useQueryClient } from "@tanstack/react-query";
+import { lazy, Suspense, useCallback, useEffect, useMemo, useRef, useState } from "react";
+import { Link } from "react-router";
+import type { FeatureCollection } from "geojson";
+import { layerCatalogue, GROUP_ORDER, LAND_CLASSES, fmtValue, type LayerDef, type RasterDef, type VectorDef } from "./catalogue";
+import { colourise, rasterCanvas, rasterValue, type DisplayRaster } from "./raster";
+import { rasterQuery, vectorQuery } from "./queries";
+import { relativeCollection } from "./geometry";
+import { LayerList, type LayerState, type LayerStatus } from "./LayerList";
+import { SeaLevelStrip } from "./SeaLevelStrip";
+import { Readout, type ReadoutValue } from "./Readout";
+import { SectionDrawer } from "./SectionDrawer";
+import { Cautions } from "~/components/Cautions";
+import type { RasterRender, VectorRender } from "./DeckMap.client";
+import type { MapData } from "./types";
+
+const DeckMap = lazy(() => import("./DeckMap.client"));
+
+type Reconstruction = NonNullable<MapData["reconstruction"]>;
+
+export function MapWorkspace({ data, reconstruction: r }: { data: MapData; reconstruction: Reconstruction }) {
+  const queryClient = useQueryClient();
+  const grid = r.grid;
+  const origin = useMemo(() => ({ originX: grid.originX, originY: grid.originY }), [grid.originX, grid.originY]);
+  const extentM = useMemo(() => ({ width: grid.width * grid.cellSizeX, height: grid.height * grid.cellSizeY }), [grid]);
+  const defs = useMemo(() => layerCatalogue(data), [data]);
+  const [layerState, setLayerState] = useState<Record<string, LayerState>>(() => Object.fromEntries(defs.map((d) => [d.id, { visible: d.visible, opacity: d.opacity }])));
+  const stateOf = (d: LayerDef) => layerState[d.id] ?? { visible: d.visible, opacity: d.opacity };
+  const [ageKa, setAgeKa] = useState(r.agesKa[0]);
+  const [playing, setPlaying] = useState(false);
+  const [panelOpen, setPanelOpen] = useState(true);
+  const [hover, setHover] = useState<[number, number] | null>(null);
+  const [sectionMode, setSectionMode] = useState(false);
+  const [section, setSection] = useState<Array<[number, number]>>([]);
+  const [fitSignal, setFitSignal] = useState(0);
+  const [mounted, setMounted] = useState(false);
+  useEffect(() => setMounted(true), []);
+
+  const perAge = useMemo(() => new Set(r.layers.filter((l) => l.ageKa !== null).map((l) => l.name)), [r.layers]);
+  const rasterDefs = defs.filter((d): d is RasterDef => d.kind === "raster");
+  const ageVectorDefs = defs.filter((d): d is VectorDef => d.kind === "vector" && d.source.type === "age");
+  const rasterAge = (d: RasterDef) => (perAge.has(d.layer) ? ageKa : null);
+
+  // Rasters: every visible one, and the ones the readout always reads.
+  const wantedRasters = rasterDefs.filter((d) => stateOf(d).visible || d.alwaysRead);
+  const rasterResults = useQueries({
+    queries: wantedRasters.map((d) => ({ ...rasterQuery(r.id, d.layer, rasterAge(d)), placeholderData: keepPreviousData })),
+  });
+  const wantedVectors = ageVectorDefs.filter((d) => stateOf(d).visible);
+  const vectorResults = useQueries({
+    queries: wantedVectors.map((d) => ({ ...vectorQuery(r.id, (d.source as { what: string }).what, ageKa, origin), placeholderData: keepPreviousData, retry: false })),
+  });
+
+  // Step back and forth instantly: fetch the neighbouring ages' per-age layers in the background.
+  useEffect(() => {
+    const i = r.agesKa.indexOf(ageKa);
+    for (const a of [r.agesKa[i + 1], r.agesKa[i - 1]]) {
+      if (a === undefined) continue;
+      for (const d of wantedRasters) if (perAge.has(d.layer)) void queryClient.prefetchQuery(rasterQuery(r.id, d.layer, a));
+      for (const d of wantedVectors) void queryClient.prefetchQuery({ ...vectorQuery(r.id, (d.source as { what: string }).what, a, origin), retry: false });
+    }
+    // eslint-disable-next-line react-hooks/exhaustive-deps
+  }, [ageKa, r.id]);
+
+  // Colour each raster once per loaded array (and style).
+  const canvases = useRef(new WeakMap<DisplayRaster, HTMLCanvasElement>());
+  const status: Record<string, LayerStatus> = {};
+  const loaded = new Map<string, { def: RasterDef; raster: DisplayRaster; current: boolean }>();
+  wantedRasters.forEach((d, i) => {
+    const q = rasterResults[i];
+    const raster = q?.data;
+    status[d.id] = {
+      loading: q?.isFetching ?? true,
+      error: q?.error ? q.error.message : null,
+      range: raster ? { min: raster.offset, max: raster.offset + 254 * raster.scale } : null,
+      units: raster?.units ?? r.layers.find((l) => l.name === d.layer)?.units,
+    };
+    if (raster) loaded.set(d.id, { def: d, raster, current: !q.isPlaceholderData });
+  });
+  const vectorData = new Map<string, FeatureCollection>();
+  wantedVectors.forEach((d, i) => {
+    const q = vectorResults[i];
+    status[d.id] = { loading: q?.isFetching ?? true, error: q?.error ? "Not available for this reconstruction yet." : null, empty: !!q?.data && q.data.features.length === 0 && !q.isPlaceholderData };
+    if (q?.data) vectorData.set(d.id, q.data);
+  });
+  const ready = rasterResults.every((q) => (q.data && !q.isPlaceholderData) || q.isError) && vectorResults.every((q) => (q.data && !q.isPlaceholderData) || q.isError);
+
+  const rasterRenders: RasterRender[] = [];
+  if (mounted) {
+    for (const d of [...rasterDefs].reverse()) {
+      const l = loaded.get(d.id);
+      if (!l || !stateOf(d).visible) continue;
+      let canvas = canvases.current.get(l.raster);
+      if (!canvas) {
+        canvas = rasterCanvas(colourise(l.raster, d.style, null), l.raster.width, l.raster.height);
+        canvases.current.set(l.raster, canvas);
+      }
+      rasterRenders.push({ id: d.id, image: canvas, opacity: stateOf(d).opacity, nearest: d.nearest });
+    }
+  }
+  const rasterKey = rasterRenders.map((x) => `${x.id}:${x.opacity}:${canvasId(x.image)}`).join("|");
+  // eslint-disable-next-line react-hooks/exhaustive-deps
+  const stableRasters = useMemo(() => rasterRenders, [rasterKey]);
+
+  const overlays = useMemo(() => new Map(data.overlays.map((o) => [o.datasetId, relativeCollection(o.geojson, origin)])), [data.overlays, origin]);
+  const sites = useMemo(
+    () => ({
+      exact: data.sites.exact.map((s) => ({ label: s.label, x: s.x - origin.originX, y: s.y - origin.originY })),
+      generalised: (data.sites.generalised?.cells ?? []).map((c) => ({ count: c.count, x: c.x - origin.originX, y: c.y - origin.originY })),
+    }),
+    [data.sites, origin],
+  );
+  const vectorRenders: VectorRender[] = [];
+  for (const g of [...GROUP_ORDER].reverse()) {
+    for (const d of defs.filter((x): x is VectorDef => x.kind === "vector" && x.group === g).reverse()) {
+      const s = stateOf(d);
+      if (!s.visible) continue;
+      const src = d.source;
+      if (src.type === "age") {
+        const fc = vectorData.get(d.id);
+        if (fc) vectorRenders.push({ id: d.id, type: "age-lines", what: src.what, data: fc, opacity: s.opacity });
+      } else if (src.type === "overlay") {
+        const fc = overlays.get(src.datasetId);
+        if (fc) vectorRenders.push({ id: d.id, type: "overlay", overlayKind: src.overlayKind, data: fc, opacity: s.opacity });
+      } else if (sites.exact.length) {
+        vectorRenders.push({ id: d.id, type: "sites-exact", data: sites.exact, opacity: s.opacity });
+      } else if (data.sites.generalised) {
+        vectorRenders.push({ id: d.id, type: "sites-generalised", cellSizeM: data.sites.generalised.cellSizeM, data: sites.generalised, opacity: s.opacity });
+      }
+    }
+  }
+  const vectorKey = vectorRenders.map((v) => `${v.id}:${v.opacity}:${objectId(v.data)}`).join("|");
+  // eslint-disable-next-line react-hooks/exhaustive-deps
+  const stableVectors = useMemo(() => vectorRenders, [vectorKey]);
+
+  // The render counter: after every deck.gl frame, for tests and tools that wait on drawing.
+  const wrapperRef = useRef<HTMLDivElement>(null);
+  const renders = useRef(0);
+  const latest = useRef({ ageKa, ready });
+  latest.current = { ageKa, ready };
+  const [renderedAge, setRenderedAge] = useState<number | null>(null);
+  const onAfterRender = useCallback(() => {
+    renders.current += 1;
+    const el = wrapperRef.current;
+    if (!el) return;
+    el.dataset.renderCount = String(renders.current);
+    const done = latest.current.ready ? String(latest.current.ageKa) : "";
+    if (el.dataset.renderedAge !== done) {
+      el.dataset.renderedAge = done;
+      setRenderedAge(latest.current.ready ? latest.current.ageKa : null);
+    }
+  }, []);
+
+  // Playing: move on once the current age has been drawn, and stop at the youngest.
+  useEffect(() => {
+    if (!playing || renderedAge !== ageKa) return;
+    const i = r.agesKa.indexOf(ageKa);
+    if (i >= r.agesKa.length - 1) {
+      setPlaying(false);
+      return;
+    }
+    const t = setTimeout(() => setAgeKa(r.agesKa[i + 1]), 900);
+    return () => clearTimeout(t);
+  }, [playing, renderedAge, ageKa, r.agesKa]);
+  const onPlay = (p: boolean) => {
+    if (p && ageKa === r.agesKa[r.agesKa.length - 1]) setAgeKa(r.agesKa[0]);
+    setPlaying(p);
+  };
+
+  const onHover = useCallback((xy: [number, number] | null) => setHover(xy), []);
+  const onMapClick = useCallback(
+    (xy: [number, number]) => {
+      if (!sectionMode) return;
+      setSection((s) => (s.length >= 2 ? [xy] : [...s, xy]));
+    },
+    [sectionMode],
+  );
+  useEffect(() => {
+    if (!sectionMode) return;
+    const onKey = (e: KeyboardEvent) => {
+      if (e.key === "Escape") {
+        setSectionMode(false);
+        setSection([]);
+      }
+    };
+    window.addEventListener("keydown", onKey);
+    return () => window.removeEventListener("keydown", onKey);
+  }, [sectionMode]);
+
+  // Readout: values under the cursor from the arrays already loaded (no server call).
+  const readoutValues: ReadoutValue[] = [];
+  if (hover) {
+    const col = Math.floor(hover[0] / grid.cellSizeX);
+    const row = Math.floor(-hover[1] / grid.cellSizeY);
+    for (const d of rasterDefs) {
+      const l = loaded.get(d.id);
+      if (!l || d.layer === "hillshade" || !(stateOf(d).visible || d.alwaysRead)) continue;
+      const v = rasterValue(l.raster, col, row);
+      const text = v === null ? "—" : d.style.kind === "classes" ? (LAND_CLASSES.find((c) => c.value === Math.round(v))?.label ?? String(Math.round(v))) : d.style.kind === "mask" ? (Math.round(v) >= 1 ? "yes" : "no") : fmtValue(v, l.raster.units);
+      readoutValues.push({ label: d.label + (perAge.has(d.layer) ? ` (${ageKa} ka)` : ""), text });
+    }
+  }
+
+  const age = r.agesKa.includes(ageKa) ? ageKa : r.agesKa[0];
+  const tool = "rounded-sm border px-2 py-0.5 text-sm";
+  return (
+    <div className="flex min-h-0 flex-1 flex-col">
+      <div className="flex items-center gap-2 border-b border-sand-200 bg-sand-100 px-3 py-1">
+        <h1 className="text-base font-semibold">Map</h1>
+        <span className="truncate text-sm text-sediment-600">
+          <Link to={`/projects/${data.project.id}/reconstructions/${r.id}`} className="underline decoration-sand-400 hover:text-deep-800">
+            {r.name || `Reconstruction ${r.id}`}
+          </Link>{" "}
+          · {data.seaLevel.label}
+        </span>
+        <span className="flex-1" />
+        <button
+          type="button"
+          aria-pressed={sectionMode}
+          onClick={() => {
+            setSectionMode(!sectionMode);
+            setSection([]);
+          }}
+          className={`${tool} ${sectionMode ? "border-deep-700 bg-deep-800 text-sand-50" : "border-sand-300 bg-white"}`}
+          title="Click two points on the map to draw a cross-section (Esc to stop)"
+        >
+          Section
+        </button>
+        <button type="button" onClick={() => setFitSignal((n) => n + 1)} className={`${tool} border-sand-300 bg-white`}>
+          Whole grid
+        </button>
+        <details className="relative">
+          <summary className={`${tool} cursor-pointer list-none border-caution-600 bg-white text-caution-800`}>Cautions</summary>
+          <div className="absolute right-0 z-10 mt-1 w-96 shadow-lg">
+            <Cautions compact />
+          </div>
+        </details>
+        <button type="button" onClick={() => setPanelOpen(!panelOpen)} aria-expanded={panelOpen} aria-controls="map-panel" className={`${tool} border-sand-300 bg-white`}>
+          {panelOpen ? "Hide layers" : "Layers"}
+        </button>
+      </div>
+      <div className="flex min-h-0 flex-1">
+        <div className="relative min-w-0 flex-1 bg-deep-950" ref={wrapperRef} data-testid="map" data-age={age} data-render-count="0" data-rendered-age="">
+          {mounted ? (
+            <Suspense fallback={<p className="p-4 text-sm text-sea-200">Loading the map…</p>}>
+              <DeckMap extentM={extentM} rasters={stableRasters} vectors={stableVectors} section={section} crosshair={sectionMode} onHover={onHover} onClick={onMapClick} onAfterRender={onAfterRender} fitSignal={fitSignal} frameTag={`${age}:${ready}`} />
+            </Suspense>
+          ) : null}
+          {sectionMode && section.length < 2 ? (
+            <p className="pointer-events-none absolute left-3 top-3 rounded-sm bg-deep-900/90 px-2 py-1 text-xs text-sand-50">
+              {section.length === 0 ? "Section: click the first end (A)" : "Section: click the second end (B)"} · Esc to stop
+            </p>
+          ) : null}
+        </div>
+        {panelOpen ? (
+          <aside id="map-panel" aria-label="Layers" className="w-80 shrink-0 overflow-y-auto border-l border-sand-200 bg-sand-50 p-3">
+            <h2 className="mb-2 text-sm font-semibold">Layers</h2>
+            <LayerList defs={defs} state={layerState} status={status} onChange={(id, next) => setLayerState((s) => ({ ...s, [id]: next }))} />
+            <p className="mt-4 text-xs text-sediment-600">
+              Grid {grid.width} × {grid.height} cells of {grid.cellSizeX} × {grid.cellSizeY} m{data.project.crsEpsg ? ` · EPSG:${data.project.crsEpsg}` : ""}. Values come from the reconstruction&apos;s display
+              copy (8-bit); the GeoTIFFs on the{" "}
+              <Link className="underline" to={`/projects/${data.project.id}/reconstructions/${r.id}`}>
+                reconstruction page
+              </Link>{" "}
+              hold full precision.
+            </p>
+          </aside>
+        ) : null}
+      </div>
+      <Readout hover={hover} origin={origin} proj4={data.project.proj4} values={readoutValues} />
+      {section.length === 2 ? <SectionDrawer reconstructionId={r.id} from={[section[0][0] + origin.originX, section[0][1] + origin.originY]} to={[section[1][0] + origin.originX, section[1][1] + origin.originY]} ageKa={age} onClose={() => setSection([])} /> : null}
+      <SeaLevelStrip points={data.seaLevel.points} label={data.seaLevel.label} agesKa={r.agesKa} ageKa={age} onAge={setAgeKa} playing={playing} onPlay={onPlay} />
+    </div>
+  );
+}
+
+const ids = new WeakMap<object, number>();
+let nextId = 1;
+function objectId(o: object): number {
+  let id = ids.get(o);
+  if (!id) {
+    id = nextId++;
+    ids.set(o, id);
+  }
+  return id;
+}
+const canvasId = objectId;
