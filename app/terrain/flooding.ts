@@ -221,10 +221,6 @@ export function spillElevation(elev: Grid<Float32Array>, boundaryMask: Uint8Arra
 /** Palaeo-tidal range: a constant (m) or a per-cell layer (m). */
 export type TidalRange = number | Float32Array;
 
-function tidalAt(range: TidalRange, i: number): number {
-  return typeof range === "number" ? range : range[i];
-}
-
 /**
  * Classes every cell at one age: sea, intertidal, lake or land (Uint8, CLASS_* constants).
  *
@@ -265,13 +261,15 @@ export function classifyAtAge(
   let inter = 0;
   let lake = 0;
   let land = 0;
+  const tidalGrid = typeof tidalRange === "number" ? null : tidalRange;
+  const halfConst = typeof tidalRange === "number" ? tidalRange / 2 : 0;
   for (let i = 0; i < n; i++) {
-    if (nodata[i] || Number.isNaN(seaLevel[i])) {
+    const L = seaLevel[i];
+    if (nodata[i] || L !== L) {
       classes[i] = CLASS_NODATA;
       continue;
     }
-    const half = tidalAt(tidalRange, i) / 2;
-    const L = seaLevel[i];
+    const half = tidalGrid === null ? halfConst : tidalGrid[i] / 2;
     const si = s[i];
     if (si <= L - half) {
       classes[i] = CLASS_SEA;
