@@ -11,7 +11,7 @@
 // measured here, never by timed assertions in the tests.
 import { execFileSync, spawnSync } from "node:child_process";
 import { mkdtempSync, rmSync, writeFileSync, existsSync } from "node:fs";
-import { tmpdir, cpus, totalmem } from "node:os";
+import { tmpdir, cpus, totalmem, loadavg } from "node:os";
 import path from "node:path";
 import { fileURLToPath } from "node:url";
 
@@ -85,7 +85,8 @@ t "r.slope.aspect" r.slope.aspect elevation=dem slope=slope aspect=aspect --quie
 
 const results = { machine: { cpus: cpus().length, model: cpus()[0]?.model, totalMemGiB: +(totalmem() / 2 ** 30).toFixed(1), node: process.version }, ages, threads, sizes: [] };
 console.log(`Lowstand terrain benchmark — ${results.machine.cpus} cores (${results.machine.model}), ${results.machine.totalMemGiB} GiB, Node ${process.version}`);
-console.log(`synthetic shelf (seed 20260, 25 m cells), ages ${ages.join(", ")} ka, ${threads} worker threads\n`);
+console.log(`synthetic shelf (seed 20260, 25 m cells), ages ${ages.join(", ")} ka, ${threads} worker threads`);
+console.log(`started ${new Date().toISOString()}, load average ${loadavg().map((x) => x.toFixed(2)).join(" ")} (other work on the machine slows every figure)\n`);
 for (const size of sizes) {
   console.log(`== ${size}×${size} (${((size * size) / 1e6).toFixed(1)} M cells)`);
   const st = child(["--mode", "steps", "--size", String(size)]);
@@ -93,7 +94,7 @@ for (const size of sizes) {
   for (const x of st.steps) console.log(`    ${x.step.padEnd(50)} ${s(x.ms)}   ${mib(x.peakRssMiB)}`);
   console.log(`    ${"comparable chain (as GRASS below)".padEnd(50)} ${s(st.chainMs)}`);
   const pipe = child(["--mode", "pipeline", "--size", String(size), "--ages", ages.join(","), "--threads", String(threads)]);
-  console.log(`  pipeline, ${ages.length} ages + age-independent layers, ${threads} threads: ${s(pipe.wallMs)} s wall, peak RSS ${pipe.peakRssMiB} MiB (process max ${pipe.processMaxRssMiB} MiB incl. generating the grid), ${pipe.layers} layers`);
+  console.log(`  pipeline, ${ages.length} ages + age-independent layers, ${threads} threads: ${s(pipe.wallMs)} s wall (${(pipe.cpuMs / 1000).toFixed(1)} CPU-s in all threads), peak RSS ${pipe.peakRssMiB} MiB (process max ${pipe.processMaxRssMiB} MiB incl. generating the grid), ${pipe.layers} layers`);
   let wr = null;
   if (!flag("no-write")) {
     wr = child(["--mode", "write", "--size", String(size), "--ages", ages.join(","), "--threads", String(threads)]);
@@ -110,8 +111,8 @@ for (const size of sizes) {
       console.log(`  ours / GRASS for the single-age chain: ${(st.chainMs / g.chainMs).toFixed(3)}`);
     }
   }
-  results.sizes.push({ size, steps: st, pipeline: pipe, write: wr, grass: g });
-  console.log("");
+  results.sizes.push({ size, steps: st, pipeline: pipe, write: wr, grass: g, loadAverageAfter: loadavg() });
+  console.log(`  load average after: ${loadavg().map((x) => x.toFixed(2)).join(" ")}\n`);
 }
 const jsonOut = opt("json");
 if (jsonOut) writeFileSync(jsonOut, JSON.stringify(results, null, 2));
