@@ -46,10 +46,13 @@ function label(names: readonly string[] | undefined, i: number): string {
 }
 
 /**
+ * Saaty, T.L. (1980) The Analytic Hierarchy Process: Planning, Priority Setting, Resource
+ * Allocation, McGraw-Hill, New York.
+ *
  * Check a pairwise comparison matrix: square, 1 ≤ n ≤ 10 (Saaty's random index is tabulated here up
  * to 10; group more factors into criteria), ones on the diagonal, every judgement a finite number in
  * 1/9…9, and a[j][i] = 1/a[i][j] (relative tolerance {@link RECIPROCAL_TOLERANCE}). Throws
- * {@link ScoringInputError} naming the pair (by `names` where given). Saaty (1980). O(n²).
+ * {@link ScoringInputError} naming the pair (by `names` where given). O(n²).
  */
 export function validatePairwiseMatrix(matrix: readonly (readonly number[])[], names?: readonly string[]): void {
   const n = matrix.length;
@@ -87,8 +90,10 @@ export function validatePairwiseMatrix(matrix: readonly (readonly number[])[], n
 }
 
 /**
+ * Common practice, no source.
+ *
  * A full reciprocal matrix from the judgements above the diagonal, row by row:
- * (a12, a13, …, a1n, a23, …, a(n−1)n). Common practice, no source. O(n²). Validates the result.
+ * (a12, a13, …, a1n, a23, …, a(n−1)n). O(n²). Validates the result.
  */
 export function matrixFromUpperTriangle(n: number, upper: readonly number[], names?: readonly string[]): number[][] {
   if (!Number.isInteger(n) || n < 1) throw new ScoringInputError(`A pairwise comparison needs at least one factor (got ${n}).`);
@@ -107,10 +112,12 @@ export function matrixFromUpperTriangle(n: number, upper: readonly number[], nam
 }
 
 /**
+ * Saaty, T.L. (1980) The Analytic Hierarchy Process: Planning, Priority Setting, Resource
+ * Allocation, McGraw-Hill, New York.
+ *
  * AHP weights: the principal right eigenvector of the pairwise comparison matrix, normalised to sum
- * 1, with λmax, CI = (λmax − n)/(n − 1) and CR = CI/RI. Saaty, T.L. (1980) The Analytic Hierarchy
- * Process, McGraw-Hill (eigenvector method; random index RI n = 3…10: 0.58, 0.90, 1.12, 1.24, 1.32,
- * 1.41, 1.45, 1.49; CR ≤ 0.10 acceptable).
+ * 1, with λmax, CI = (λmax − n)/(n − 1) and CR = CI/RI (Saaty's random index RI for n = 3…10: 0.58,
+ * 0.90, 1.12, 1.24, 1.32, 1.41, 1.45, 1.49; CR ≤ 0.10 acceptable).
  *
  * Method: power iteration from equal weights, w ← A·w / Σ(A·w), until no weight changes by more than
  * {@link POWER_ITERATION_TOLERANCE} (a positive matrix has a simple dominant eigenvalue — Perron —
@@ -128,7 +135,6 @@ export function ahpWeights(matrix: readonly (readonly number[])[], names?: reado
   let w = new Float64Array(n).fill(1 / n);
   let next = new Float64Array(n);
   let iterations = 0;
-  let lambda = n;
   for (;;) {
     iterations++;
     let sum = 0;
@@ -139,7 +145,6 @@ export function ahpWeights(matrix: readonly (readonly number[])[], names?: reado
       next[i] = s;
       sum += s;
     }
-    lambda = sum;
     let change = 0;
     for (let i = 0; i < n; i++) {
       next[i] /= sum;
@@ -158,7 +163,6 @@ export function ahpWeights(matrix: readonly (readonly number[])[], names?: reado
     for (let j = 0; j < n; j++) s += matrix[i][j] * w[j];
     lambdaMax += s;
   }
-  if (!(lambdaMax > 0)) lambdaMax = lambda;
   const randomIndex = SAATY_RANDOM_INDEX[n];
   const consistencyIndex = n <= 2 ? 0 : Math.max(0, (lambdaMax - n) / (n - 1));
   const consistencyRatio = n <= 2 ? 0 : consistencyIndex / randomIndex;
@@ -174,10 +178,12 @@ export function ahpWeights(matrix: readonly (readonly number[])[], names?: reado
 }
 
 /**
+ * Aczél, J. & Saaty, T.L. (1983) "Procedures for synthesizing ratio judgements", Journal of
+ * Mathematical Psychology 27(1), 93–102.
+ *
  * Group judgements: the element-wise geometric mean of several people's matrices,
- * a[i][j] = (Π_k a_k[i][j])^(1/m). Aczél, J. & Saaty, T.L. (1983) "Procedures for synthesizing ratio
- * judgements", Journal of Mathematical Psychology 27(1), 93–102 — the geometric mean is the rule that
- * keeps the result reciprocal. Each matrix is validated ({@link validatePairwiseMatrix}); all must
+ * a[i][j] = (Π_k a_k[i][j])^(1/m) — the geometric mean is the rule that keeps the result
+ * reciprocal. Each matrix is validated ({@link validatePairwiseMatrix}); all must
  * be the same size. Computed through logarithms. O(m·n²).
  */
 export function aggregateJudgements(

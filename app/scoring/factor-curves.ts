@@ -60,8 +60,10 @@ export type FactorCurve =
   | AspectPreferenceCurve;
 
 /**
+ * Common practice, no source.
+ *
  * The control points of a curve, in the order they must increase (for the aspect curve, its three
- * parameters). Common practice, no source. O(1).
+ * parameters). O(1).
  */
 export function controlPointNames(curve: FactorCurve): readonly string[] {
   switch (curve.kind) {
@@ -84,11 +86,14 @@ const LIN_UP = 0, LIN_DOWN = 1, SIG_UP = 2, SIG_DOWN = 3, J_UP = 4, J_DOWN = 5, 
 interface Compiled { code: number; p0: number; p1: number; p2: number; p3: number }
 
 /**
+ * Eastman, J.R., Jin, W., Kyem, P.A.K. & Toledano, J. (1995) "Raster procedures for
+ * multi-criteria/multi-objective decisions", Photogrammetric Engineering & Remote Sensing 61(5),
+ * 539–547; Malczewski, J. (1999) GIS and Multicriteria Decision Analysis, Wiley, New York.
+ *
  * Check a curve's control points: each must be a finite number, and they must increase strictly in
  * the order of {@link controlPointNames} (a band's plateau may have zero width: `fullAt` ≤
  * `fullUntil`). The aspect curve needs a finite `preferredDeg`, 0 < `widthDeg` ≤ 180 and 0 ≤
- * `flatValue` ≤ 1. Throws {@link ScoringInputError} naming the point. Common practice, no source.
- * O(1).
+ * `flatValue` ≤ 1. Throws {@link ScoringInputError} naming the point. O(1).
  */
 export function validateCurve(curve: FactorCurve): void {
   compile(curve);
@@ -200,8 +205,11 @@ function evalCompiled(k: Compiled, x: number): number {
 }
 
 /**
- * The score (0–1) of one factor value. Eastman et al. (1995) PE&RS 61(5), 539–547; Malczewski (1999)
- * GIS and Multicriteria Decision Analysis. Formulas (t = position inside the flank, 0…1):
+ * Eastman, J.R., Jin, W., Kyem, P.A.K. & Toledano, J. (1995) "Raster procedures for
+ * multi-criteria/multi-objective decisions", Photogrammetric Engineering & Remote Sensing 61(5),
+ * 539–547; Malczewski, J. (1999) GIS and Multicriteria Decision Analysis, Wiley, New York.
+ *
+ * The score (0–1) of one factor value. Formulas (t = position inside the flank, 0…1):
  * linear t (rising) or 1 − t (falling); sigmoid sin²(πt/2) (rising) or cos²(πt/2) (falling);
  * J-shaped decreasing 1 / (1 + ((x − fullUntil)/(halfAt − fullUntil))²) above `fullUntil`,
  * increasing 1 / (1 + ((fullAt − x)/(fullAt − halfAt))²) below `fullAt`; aspect cos²(π/2 · δ/width)
@@ -217,6 +225,10 @@ export function evaluateCurve(curve: FactorCurve, x: number): number {
 }
 
 /**
+ * Eastman, J.R., Jin, W., Kyem, P.A.K. & Toledano, J. (1995) "Raster procedures for
+ * multi-criteria/multi-objective decisions", Photogrammetric Engineering & Remote Sensing 61(5),
+ * 539–547; Malczewski, J. (1999) GIS and Multicriteria Decision Analysis, Wiley, New York.
+ *
  * Apply a curve to a whole layer. Same formulas and preconditions as {@link evaluateCurve} (NaN
  * stays NaN; for the aspect curve NaN becomes `flatValue`, so a nodata aspect cell also gets it —
  * the occupation mask and the other factors keep nodata cells out). Writes into `out` if given
@@ -233,9 +245,11 @@ export function applyCurve(curve: FactorCurve, values: Float32Array, out?: Float
 }
 
 /**
+ * Common practice, no source.
+ *
  * A lookup table of the curve at `n` evenly spaced values from `min` to `max` inclusive:
  * table[k] = curve(min + k·(max − min)/(n − 1)). The browser turns quantised codes into scores
- * through such a table. Common practice, no source.
+ * through such a table.
  *
  * Tolerance: at the nodes the table equals {@link evaluateCurve} up to Float32 rounding (≤ 6·10⁻⁸
  * relative). Between nodes, {@link lookupCurve} interpolates linearly, with error at most
@@ -266,11 +280,13 @@ export interface QuantisationSpec {
 }
 
 /**
+ * Common practice, no source.
+ *
  * A lookup table indexed directly by a quantised layer's codes (`app/raster-display.ts` `quantise`):
  * entry k = curve(k·scale + offset) for k < nodataCode, and entry nodataCode = curve(NaN) — NaN, or
  * `flatValue` for the aspect curve (flats are NaN in the aspect layer, so they quantise to the nodata
  * code). Length nodataCode + 1, so every Uint8/Uint16 code is a valid index. Equal to
- * {@link evaluateCurve} on the decoded value up to Float32 rounding. Common practice, no source.
+ * {@link evaluateCurve} on the decoded value up to Float32 rounding.
  * Preconditions: scale > 0, finite offset, nodataCode ≥ 1 an integer. O(nodataCode).
  */
 export function quantisedCurveTable(curve: FactorCurve, q: QuantisationSpec): Float32Array {
@@ -286,10 +302,12 @@ export function quantisedCurveTable(curve: FactorCurve, q: QuantisationSpec): Fl
 }
 
 /**
+ * Common practice, no source.
+ *
  * Read a value through a table made by {@link curveLookupTable} over [min, max]: linear
  * interpolation between the two nearest nodes; values outside [min, max] take the end entries; NaN
  * → NaN (so an aspect table does not give `flatValue` here: use {@link evaluateCurve} for flats).
- * Error bound: see {@link curveLookupTable}. Common practice, no source. O(1).
+ * Error bound: see {@link curveLookupTable}. O(1).
  */
 export function lookupCurve(table: Float32Array, min: number, max: number, x: number): number {
   if (x !== x) return NaN;

@@ -42,8 +42,10 @@ export interface PeriodAgeWeights {
 }
 
 /**
+ * Our own rule: decision 401 (docs/decisions/401-period-rule.md); common practice, no source.
+ *
  * The weight of each age in a period (the wₖ of the module comment, normalised to sum 1), and how much
- * of the window the ages cover. Rule of decision 401; common practice, no source.
+ * of the window the ages cover.
  *
  * Preconditions: ages in ka BP, finite and distinct, in any order; a window with finite
  * youngKa < oldKa that overlaps the ages' span (a single age: the window must contain it, and it
@@ -97,8 +99,10 @@ export function periodAgeWeights(agesKa: readonly number[], window: PeriodWindow
 }
 
 /**
+ * Our own rule: decision 401 (docs/decisions/401-period-rule.md); common practice, no source.
+ *
  * A period's occupation score per cell: the time-weighted mean P = Σₖ wₖ·sₖ* / Σₖ wₖ of the per-age
- * scores (module comment; decision 401). Common practice, no source.
+ * scores (module comment).
  *
  * Preconditions: `perAge[k]` is the occupation score (0–1, NaN where not occupiable or nodata) at
  * `agesKa[k]`, all the same length; window as {@link periodAgeWeights}. `rule` "zero" (default)

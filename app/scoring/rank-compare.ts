@@ -85,9 +85,12 @@ export interface RankCorrelation {
 }
 
 /**
+ * Spearman, C. (1904) "The proof and measurement of association between two things", American
+ * Journal of Psychology 15(1), 72–101; ties by mid-ranks after Kendall, M.G. (1948) Rank
+ * Correlation Methods, Griffin, London.
+ *
  * Spearman's rank correlation ρ of two score maps over the cells where both are finite: Pearson's
- * correlation of their mid-ranks (ties share the mean of their ranks). Spearman (1904) American
- * Journal of Psychology 15(1), 72–101; mid-ranks after Kendall (1948) Rank Correlation Methods.
+ * correlation of their mid-ranks (ties share the mean of their ranks).
  * Without ties it equals 1 − 6Σd²/(n(n² − 1)).
  * Preconditions: same length; at least 2 common cells (else {@link ScoringInputError}); NaN and
  * ±Infinity cells are left out. ρ is NaN if either map is constant there.
@@ -125,9 +128,10 @@ export interface TopOverlap {
 }
 
 /**
+ * Common practice, no source.
+ *
  * The share of the N highest-scoring cells the two maps have in common, over the cells both score.
- * Ties at the cut are broken by cell index (lower index first), the same for both maps. Common
- * practice, no source.
+ * Ties at the cut are broken by cell index (lower index first), the same for both maps.
  * Preconditions: same length; 1 ≤ N ≤ the number of common cells (else {@link ScoringInputError}).
  * Complexity O(n) time and memory.
  */

@@ -4,14 +4,19 @@
  * score map recomputed. Chen, Y., Yu, J. & Khan, S. (2010) "Spatial sensitivity analysis of
  * multi-criteria weights in GIS-based land suitability evaluation", Environmental Modelling &
  * Software 25(12), 1582–1591. (For Monte Carlo and variance-based global sensitivity see
- * Ligmann-Zielinska, A. & Jankowski, P. (2014) Environmental Modelling & Software 57, 235–247 — not
+ * Ligmann-Zielinska, A. & Jankowski, P. (2014) Environmental Modelling & Software 57 — not
  * here.) The regulator's tornado chart uses fixed thresholds: with quantile classes the high-class
  * area is constant by construction (design §7).
  */
 import { ScoringInputError } from "./errors.ts";
 import { normaliseWeights, weightedLinearCombination, type WeightedFactor } from "./weighted-sum.ts";
 
-/** Chen, Yu & Khan (2010): relative changes −0.20 … +0.20 in steps of 0.01 (41 values). */
+/**
+ * Chen, Y., Yu, J. & Khan, S. (2010) "Spatial sensitivity analysis of multi-criteria weights in
+ * GIS-based land suitability evaluation", Environmental Modelling & Software 25(12), 1582–1591.
+ *
+ * Their one-at-a-time steps: relative changes −0.20 … +0.20 in steps of 0.01 (41 values). O(1).
+ */
 export function defaultWeightChanges(): Float64Array {
   const out = new Float64Array(41);
   for (let k = 0; k < 41; k++) out[k] = (k - 20) / 100;
@@ -19,9 +24,12 @@ export function defaultWeightChanges(): Float64Array {
 }
 
 /**
+ * Chen, Y., Yu, J. & Khan, S. (2010) "Spatial sensitivity analysis of multi-criteria weights in
+ * GIS-based land suitability evaluation", Environmental Modelling & Software 25(12), 1582–1591.
+ *
  * Weights after changing weight `index` by the relative amount `change` (−0.2 = −20 %):
  * w′ᵢ = wᵢ·(1 + change), w′ⱼ = wⱼ·(1 − w′ᵢ)/(1 − wᵢ) for j ≠ i, so Σw′ = 1 and the others keep their
- * ratios. Chen, Yu & Khan (2010) Environmental Modelling & Software 25(12), 1582–1591.
+ * ratios.
  * Preconditions: `weights` normalised (sum 1, ≥ 0); change > −1. Returns null where the change is
  * impossible: w′ᵢ > 1, or wᵢ = 1 and change ≠ 0 (no other weight to take up the difference). A zero
  * weight stays zero (a relative change of 0 is 0). O(k).
@@ -73,9 +81,11 @@ export interface SensitivityResult {
 }
 
 /**
+ * Chen, Y., Yu, J. & Khan, S. (2010) "Spatial sensitivity analysis of multi-criteria weights in
+ * GIS-based land suitability evaluation", Environmental Modelling & Software 25(12), 1582–1591.
+ *
  * One-at-a-time weight sensitivity over a score map: for each factor and each relative change, the
- * mean score and the share of cells in the high class (score ≥ a fixed threshold). Chen, Y., Yu, J.
- * & Khan, S. (2010) Environmental Modelling & Software 25(12), 1582–1591.
+ * mean score and the share of cells in the high class (score ≥ a fixed threshold).
  *
  * Preconditions: factors and mask as `weightedLinearCombination` (weights are normalised first; NaN
  * cells stay NaN and are left out of means and shares); the threshold is rounded to Float32 like the

@@ -16,9 +16,13 @@ import { ScoringInputError } from "./errors.ts";
 import { Mulberry32 } from "./random.ts";
 
 /**
+ * Kvamme, K.L. (1988) "Development and testing of quantitative models", in Judge, W.J. & Sebastian,
+ * L. (eds) Quantifying the Present and Predicting the Past: Theory, Method, and Application of
+ * Archaeological Predictive Modeling, U.S. Department of the Interior, Bureau of Land Management,
+ * Denver, 325–428.
+ *
  * Kvamme's gain G = 1 − p_area / p_sites for one class (or a cumulative set of classes): 1 is a
- * perfect model, 0 no better than chance, negative worse than chance. Kvamme (1988), in Judge &
- * Sebastian (eds) Quantifying the Present and Predicting the Past, 325–428.
+ * perfect model, 0 no better than chance, negative worse than chance.
  *
  * Preconditions: shares in [0, 1]. With p_sites = 0, G is −Infinity where p_area > 0 and NaN where
  * p_area = 0 too (undefined). Throws {@link ScoringInputError} for a share outside [0, 1]. O(1).
@@ -44,8 +48,13 @@ export interface GainTable {
 }
 
 /**
+ * Kvamme, K.L. (1988) "Development and testing of quantitative models", in Judge, W.J. & Sebastian,
+ * L. (eds) Quantifying the Present and Predicting the Past: Theory, Method, and Application of
+ * Archaeological Predictive Modeling, U.S. Department of the Interior, Bureau of Land Management,
+ * Denver, 325–428.
+ *
  * Kvamme's gain per class and cumulative (the class with all classes above it), from each class's
- * area and number of sites, classes ordered from highest potential to lowest. Kvamme (1988).
+ * area and number of sites, classes ordered from highest potential to lowest.
  * Preconditions: same number of entries; areas (any unit: cells, km²) and site counts finite and
  * ≥ 0; total area and total sites above 0 — else {@link ScoringInputError}. Gains as
  * {@link kvammeGain}. O(k) for k classes.
@@ -101,9 +110,11 @@ export interface ClassTallies {
 }
 
 /**
+ * Common practice, no source.
+ *
  * Count cells and sites per class under fixed thresholds (the project classification): class 0 is
  * score ≥ thresholds[0], class c is thresholds[c] ≤ score < thresholds[c − 1], the last class is
- * score < thresholds[last]. Common practice, no source.
+ * score < thresholds[last].
  * Thresholds are rounded to Float32 like the score layers, so a cell stored as 0.7 falls in the class
  * "≥ 0.7" (in double precision Float32 0.7 is 0.69999998…).
  * Preconditions: thresholds finite and strictly decreasing; NaN cells are not counted (not land at
@@ -160,9 +171,14 @@ export interface CaptureCurve {
 }
 
 /**
+ * Kvamme, K.L. (1988) "Development and testing of quantitative models", in Judge, W.J. & Sebastian,
+ * L. (eds) Quantifying the Present and Predicting the Past: Theory, Method, and Application of
+ * Archaeological Predictive Modeling, U.S. Department of the Interior, Bureau of Land Management,
+ * Denver, 325–428.
+ *
  * The site-capture curve: cells ranked by score, the share of sites captured against the share of
  * area searched, with a point at every distinct site score (the curve's steps), plus (0, 0) at
- * +Infinity and (1, 1) at the lowest score. Kvamme (1988); common practice.
+ * +Infinity and (1, 1) at the lowest score.
  * Preconditions: NaN cells are skipped (not scored); site scores finite (else
  * {@link ScoringInputError}); at least one scored cell and one site.
  * Complexity O(n log n + s log s): one sort each, then a merge.
@@ -237,9 +253,11 @@ function aucSortedCounts(p: Float64Array, cp: Uint32Array | null, b: Float64Arra
 }
 
 /**
+ * Hanley, J.A. & McNeil, B.J. (1982) "The meaning and use of the area under a receiver operating
+ * characteristic (ROC) curve", Radiology 143(1), 29–36.
+ *
  * ROC AUC of presences against background: the probability that a presence scores above a
- * background cell, ties counting ½ — the Mann–Whitney statistic over n_p·n_b. Hanley, J.A. &
- * McNeil, B.J. (1982) Radiology 143(1), 29–36.
+ * background cell, ties counting ½ — the Mann–Whitney statistic over n_p·n_b.
  * Preconditions: at least one of each; every score finite (NaN → {@link ScoringInputError}: leave
  * out sites and cells without a score). Complexity O(n log n): each sample sorted once, then merged.
  */
@@ -250,9 +268,12 @@ export function rocAuc(presence: ArrayLike<number>, background: ArrayLike<number
 }
 
 /**
+ * Hanley, J.A. & McNeil, B.J. (1982) "The meaning and use of the area under a receiver operating
+ * characteristic (ROC) curve", Radiology 143(1), 29–36.
+ *
  * ROC AUC from scores with frequencies: `presenceCounts[i]` presences score `presenceValues[i]`, and
  * likewise for the background — e.g. a histogram of a quantised score layer as the background.
- * Same statistic as {@link rocAuc} (Hanley & McNeil 1982), ties ½.
+ * Same statistic as {@link rocAuc}, ties ½.
  * Preconditions: values finite and strictly ascending in each sample; counts non-negative integers,
  * each sample with a positive total — else {@link ScoringInputError}. O(n_p + n_b) (no sorting).
  */
@@ -278,9 +299,12 @@ export function rocAucFromCounts(
 }
 
 /**
- * Hanley & McNeil's (1982) standard error of an AUC A from n_p presences and n_b background:
+ * Hanley, J.A. & McNeil, B.J. (1982) "The meaning and use of the area under a receiver operating
+ * characteristic (ROC) curve", Radiology 143(1), 29–36.
+ *
+ * Their standard error of an AUC A from n_p presences and n_b background:
  * SE² = [A(1 − A) + (n_p − 1)(Q₁ − A²) + (n_b − 1)(Q₂ − A²)] / (n_p·n_b), Q₁ = A/(2 − A),
- * Q₂ = 2A²/(1 + A). Radiology 143(1), 29–36. An approximation (it assumes exponential score
+ * Q₂ = 2A²/(1 + A). An approximation (it assumes exponential score
  * distributions); shown beside the bootstrap interval as a check. O(1).
  */
 export function hanleyMcNeilStandardError(auc: number, presences: number, background: number): number {
@@ -345,9 +369,12 @@ export interface AucBootstrap extends Interval {
 }
 
 /**
+ * Efron, B. & Tibshirani, R.J. (1993) An Introduction to the Bootstrap, Chapman & Hall, New York
+ * (percentile intervals). Hanley, J.A. & McNeil, B.J. (1982) "The meaning and use of the area under
+ * a receiver operating characteristic (ROC) curve", Radiology 143(1), 29–36.
+ *
  * ROC AUC with a percentile bootstrap interval: presences and background resampled separately with
- * replacement (each keeps its size), the AUC recomputed per replicate. Efron & Tibshirani (1993) An
- * Introduction to the Bootstrap (percentile interval); Hanley & McNeil (1982) (AUC).
+ * replacement (each keeps its size), the AUC recomputed per replicate.
  * Preconditions: as {@link rocAuc}; options as {@link BootstrapOptions}. Deterministic for a seed.
  * Complexity O(n log n) once (sorting), then O(R·n) for R replicates: a resample of a sorted sample
  * is the same sorted values with multiplicities, so no replicate sorts.
@@ -398,9 +425,14 @@ export interface GainBootstrap {
 }
 
 /**
+ * Efron, B. & Tibshirani, R.J. (1993) An Introduction to the Bootstrap, Chapman & Hall, New York
+ * (percentile intervals). Kvamme, K.L. (1988) "Development and testing of quantitative models", in
+ * Judge, W.J. & Sebastian, L. (eds) Quantifying the Present and Predicting the Past: Theory,
+ * Method, and Application of Archaeological Predictive Modeling, U.S. Department of the Interior,
+ * Bureau of Land Management, Denver, 325–428.
+ *
  * Kvamme's gain per class and cumulative, with percentile bootstrap intervals from resampling the
  * sites with replacement (the areas are a census of the map, not a sample, so they stay fixed).
- * Kvamme (1988); Efron & Tibshirani (1993).
  * Preconditions: `siteClass[i]` is the class (0 = highest) of site i, an integer in 0…k−1 for the k
  * classes of `classArea`; areas as {@link gainByClass}. A replicate in which a class holds no site
  * gives that class a gain of −Infinity (the lower bound can be −Infinity with few sites — show the

@@ -29,7 +29,10 @@ export interface WeightedCodedFactor extends NamedWeight {
 }
 
 /**
- * Weights normalised to sum 1, in the order given. Malczewski (2000) Transactions in GIS 4(1), 5–22.
+ * Malczewski, J. (2000) "On the use of weighted linear combination method in GIS: common and best
+ * practice approaches", Transactions in GIS 4(1), 5–22.
+ *
+ * Weights normalised to sum 1, in the order given.
  * Preconditions: at least one factor; every weight finite and ≥ 0; not all zero. Anything else throws
  * {@link ScoringInputError} naming the factor. O(k) for k factors.
  */
@@ -52,9 +55,10 @@ export function normaliseWeights(factors: readonly NamedWeight[]): Float64Array 
 }
 
 /**
+ * Design §4 (land and intertidal cells); common practice, no source.
+ *
  * The mask of cells that can be occupied at an age: 1 where the `land_class` layer (docs/layers.md:
- * 0 land, 1 sea, 2 intertidal, 3 lake, 255 nodata) is land or intertidal, else 0. Design §4; common
- * practice, no source. O(n).
+ * 0 land, 1 sea, 2 intertidal, 3 lake, 255 nodata) is land or intertidal, else 0. O(n).
  */
 export function occupiableMask(landClass: Uint8Array): Uint8Array {
   const n = landClass.length;
@@ -84,9 +88,11 @@ function initOut(n: number, mask: Uint8Array | null, out: Float32Array | undefin
 }
 
 /**
+ * Malczewski, J. (2000) "On the use of weighted linear combination method in GIS: common and best
+ * practice approaches", Transactions in GIS 4(1), 5–22.
+ *
  * Weighted linear combination S = Σ wᵢ·sᵢ over the cells the mask allows (mask ≠ 0; null = every
- * cell), NaN elsewhere. Malczewski, J. (2000) "On the use of weighted linear combination method in
- * GIS: common and best practice approaches", Transactions in GIS 4(1), 5–22.
+ * cell), NaN elsewhere.
  *
  * Preconditions: scores in 0–1 (after the factor curves), all layers and the mask the same length;
  * weights as {@link normaliseWeights} (normalised here). A cell where any factor with a weight above
@@ -115,9 +121,11 @@ export function weightedLinearCombination(
 }
 
 /**
+ * Malczewski, J. (2000) "On the use of weighted linear combination method in GIS: common and best
+ * practice approaches", Transactions in GIS 4(1), 5–22.
+ *
  * The same weighted linear combination read straight from quantised layers through per-factor
  * lookup tables (the browser's live re-scoring: codes → scores → sum in one pass per factor).
- * Malczewski (2000) Transactions in GIS 4(1), 5–22.
  *
  * Preconditions: as {@link weightedLinearCombination}; each table must hold an entry for every code
  * its array type can hold (256 for Uint8, 65 536 for Uint16 — `quantisedCurveTable` makes such
