@@ -70,7 +70,7 @@ describe("site-capture curve", () => {
   it("steps at each distinct site score (hand-worked)", () => {
     // 10 cells 0.1…1.0; sites at 0.9, 0.9, 0.5, 0.2
     const cells = Float32Array.from({ length: 10 }, (_, i) => (i + 1) / 10);
-    const c = siteCaptureCurve(cells, [0.5, 0.9, 0.2, 0.9].map((v) => Math.fround(v)));
+    const c = siteCaptureCurve(cells, [0.5, 0.9, 0.2, 0.9]); // doubles, met as Float32 like the cells
     // (formula) ≥ 0.9: 2 of 10 cells, 2 of 4 sites; ≥ 0.5: 6 cells, 3 sites; ≥ 0.2: 9 cells, 4 sites
     expect(Array.from(c.areaShare)).toEqual([0, 0.2, 0.6, 0.9, 1]);
     expect(Array.from(c.siteShare)).toEqual([0, 0.5, 0.75, 1, 1]);

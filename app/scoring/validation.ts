@@ -179,6 +179,7 @@ export interface CaptureCurve {
  * The site-capture curve: cells ranked by score, the share of sites captured against the share of
  * area searched, with a point at every distinct site score (the curve's steps), plus (0, 0) at
  * +Infinity and (1, 1) at the lowest score.
+ * Site scores are rounded to Float32 like the cells, so a site scored 0.9 meets the cells stored as 0.9.
  * Preconditions: NaN cells are skipped (not scored); site scores finite (else
  * {@link ScoringInputError}); at least one scored cell and one site.
  * Complexity O(n log n + s log s): one sort each, then a merge.
@@ -192,6 +193,7 @@ export function siteCaptureCurve(cellScores: Float32Array, siteScores: ArrayLike
   for (let i = 0, j = 0; i < cellScores.length; i++) if (cellScores[i] === cellScores[i]) cells[j++] = cellScores[i];
   cells.sort();
   const sites = finiteSorted(siteScores, "Site");
+  for (let i = 0; i < sites.length; i++) sites[i] = Math.fround(sites[i]); // compare like the Float32 cells (rounding keeps the order)
   // distinct site scores, descending
   let distinct = 0;
   for (let i = sites.length - 1; i >= 0; i--) if (i === sites.length - 1 || sites[i] !== sites[i + 1]) distinct++;
