@@ -169,7 +169,7 @@ describe("floodingHistory — flooding age against the sea-level curve", () => {
 });
 
 describe("SortedLookup — bucketed countBelow", () => {
-  it("gives the binary search's count for every kind of value (formula)", () => {
+  it("gives the binary search's counts (below, at or below) for every kind of value (formula)", () => {
     const rnd = prng(4242);
     for (let t = 0; t < 60; t++) {
       const m = Math.floor(rnd() * 40);
@@ -180,7 +180,10 @@ describe("SortedLookup — bucketed countBelow", () => {
       const lk = new SortedLookup(a, t % 5 === 0 ? 0 : 1 + Math.floor(rnd() * 4 * (m + 1)));
       const probes = [NaN, Infinity, -Infinity, 0, -0, ...a, ...Array.from(a, (x) => x + 1e-9), ...Array.from(a, (x) => x - 1e-9)];
       for (let k = 0; k < 200; k++) probes.push((rnd() - 0.5) * 400);
-      for (const x of probes) expect(lk.countBelow(x), `table ${t}, x = ${x}`).toBe(countBelow(a, x));
+      for (const x of probes) {
+        expect(lk.countBelow(x), `table ${t}, x = ${x}`).toBe(countBelow(a, x));
+        expect(lk.countAtOrBelow(x), `table ${t}, x = ${x}`).toBe(a.filter((y) => y <= x).length);
+      }
     }
   });
 });

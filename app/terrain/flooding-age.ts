@@ -174,7 +174,7 @@ export function countBelow(sorted: Float64Array, x: number): number {
 }
 
 /**
- * countBelow on one sorted array, started from a table of equal-width level buckets: the bucket of x
+ * countBelow (and countAtOrBelow) on one sorted array, started from a table of equal-width level buckets: the bucket of x
  * gives how many entries lie below the bucket's lower edge, and a short forward scan finishes the
  * count, so a look-up costs one or two comparisons instead of a binary search. Same answers as
  * countBelow for every x (it falls back to it where the bucket edge is not ≤ x, and for NaN).
@@ -216,10 +216,34 @@ export class SortedLookup {
     while (j < m && a[j] < x) j++;
     return j;
   }
+  /** Number of entries ≤ x (from the same buckets: every entry below a bucket's edge is ≤ x too). */
+  countAtOrBelow(x: number): number {
+    const edges = this.edges;
+    const nb = edges.length;
+    let k = nb === 0 || x !== x ? -1 : Math.floor((x - this.lo) * this.scale);
+    if (k >= nb) k = nb - 1;
+    const a = this.a;
+    const m = a.length;
+    if (!(k >= 0) || edges[k] > x) {
+      let lo = 0;
+      let hi = m;
+      while (lo < hi) {
+        const mid = (lo + hi) >> 1;
+        if (a[mid] <= x) lo = mid + 1;
+        else hi = mid;
+      }
+      return lo;
+    }
+    let j = this.start[k];
+    while (j < m && a[j] <= x) j++;
+    return j;
+  }
 }
 
 /** Look-ups over the sorted columns of one CurveTables. */
 interface TableLookups {
+  /** −minLevel, non-decreasing */
+  negMinLevel: SortedLookup;
   maxLevel: SortedLookup;
   fallLo: SortedLookup;
   fallHi: SortedLookup;
@@ -229,7 +253,13 @@ interface TableLookups {
 /** Look-ups for one curve's tables: bucketed (four buckets per entry) when many cells will use them. */
 function lookups(t: CurveTables, bucketed: boolean): TableLookups {
   const make = (a: Float64Array) => new SortedLookup(a, bucketed ? 4 * a.length : 0);
-  return { maxLevel: make(t.maxLevel), fallLo: make(t.fallLo), fallHi: make(t.fallHi), tLevel: make(t.tLevel) };
+  return {
+    negMinLevel: make(Float64Array.from(t.minLevel, (x) => -x)),
+    maxLevel: make(t.maxLevel),
+    fallLo: make(t.fallLo),
+    fallHi: make(t.fallHi),
+    tLevel: make(t.tLevel),
+  };
 }
 
 /** Time (ka) within the window during which L < x. */
@@ -288,15 +318,21 @@ function evaluate(t: CurveTables, ix: TableLookups, s: number, R: number, band: 
     out.floodingAgeKa[i] = t.old;
     out.riseRateMPerKa[i] = NaN;
   } else {
-    // mnL is non-increasing: find the first vertex with level < s (binary search on the reversed order).
-    let lo = 1;
-    let hi = mnL.length - 1;
-    while (lo < hi) {
-      const mid = (lo + hi) >> 1;
-      if (mnL[mid] < s) hi = mid;
-      else lo = mid + 1;
+    // mnL is non-increasing: find the first vertex with level < s, i.e. the number of vertices with
+    // level ≥ s, i.e. of −level ≤ −s (a look-up on the negated levels; binary search for NaN)
+    let j: number;
+    if (s === s) j = ix.negMinLevel.countAtOrBelow(-s);
+    else {
+      let lo = 1;
+      let hi = mnL.length - 1;
+      while (lo < hi) {
+        const mid = (lo + hi) >> 1;
+        if (mnL[mid] < s) hi = mid;
+        else lo = mid + 1;
+      }
+      j = lo;
     }
-    const j = lo; // mnL[j-1] ≥ s > mnL[j]
+    // mnL[j-1] ≥ s > mnL[j]
     const f = (mnL[j - 1] - s) / (mnL[j - 1] - mnL[j]);
     out.status[i] = FLOOD_DROWNED_IN_WINDOW;
     out.floodingAgeKa[i] = mnA[j - 1] + f * (mnA[j] - mnA[j - 1]);
