@@ -49,8 +49,8 @@ export interface PeriodAgeWeights {
  *
  * Preconditions: ages in ka BP, finite and distinct, in any order; a window with finite
  * youngKa < oldKa that overlaps the ages' span (a single age: the window must contain it, and it
- * gets the whole weight). The part of a window beyond the span is left out and reported through
- * `coveredShare`. Throws {@link ScoringInputError}. O(m log m) for m ages.
+ * gets the whole weight, and `coveredShare` is 0 since one age spans no time). The part of a window
+ * beyond the span is left out and reported through `coveredShare`. Throws {@link ScoringInputError}. O(m log m) for m ages.
  */
 export function periodAgeWeights(agesKa: readonly number[], window: PeriodWindow): PeriodAgeWeights {
   const m = agesKa.length;
