@@ -207,6 +207,7 @@ export class SortedLookup {
     const edges = this.edges;
     const nb = edges.length;
     if (nb === 0 || x !== x) return countBelow(this.a, x);
+    if (x <= this.lo) return 0; // below the first entry (the deep cells, often)
     let k = Math.floor((x - this.lo) * this.scale);
     if (k >= nb) k = nb - 1;
     if (!(k >= 0) || edges[k] > x) return countBelow(this.a, x);
@@ -220,6 +221,7 @@ export class SortedLookup {
   countAtOrBelow(x: number): number {
     const edges = this.edges;
     const nb = edges.length;
+    if (nb !== 0 && x < this.lo) return 0;
     let k = nb === 0 || x !== x ? -1 : Math.floor((x - this.lo) * this.scale);
     if (k >= nb) k = nb - 1;
     const a = this.a;
