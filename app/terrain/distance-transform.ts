@@ -93,7 +93,7 @@ export function squaredDistance1D(
  * cost); mask the result afterwards. Grid edges are not features. With no feature at all every
  * output value is +Infinity. `out` may be passed to reuse memory (length width·height).
  *
- * Complexity: O(width·height) time; extra memory O(width) besides the output (the column pass
+ * Complexity: O(width·height) time; extra memory O(width + height) besides the output (the column pass
  * keeps whole-cell counts in the Float32 output, exact up to 2²⁴ rows; squared distances are formed in
  * double precision, rounded to Float32 once before the square root).
  */
@@ -133,15 +133,28 @@ export function euclideanDistance(
   const fv = new Float64Array(m);
   const g = new Float64Array(m); // fv[q] / s2 + q², the parabola's term that does not depend on p
   const s2 = cellSizeX * cellSizeX;
+  // the column pass leaves whole cell counts c < height (or +∞): their squared metres (c·dy)² and
+  // (c·dy)² / s2, computed once per count by the same operations as per cell
+  const sqM = new Float64Array(height);
+  const sqOverS2 = new Float64Array(height);
+  for (let c = 0; c < height; c++) {
+    const k = c * cellSizeY;
+    sqM[c] = k * k;
+    sqOverS2[c] = sqM[c] / s2;
+  }
   for (let r = 0; r < height; r++) {
     const o = r * width;
     let k = -1; // index of rightmost parabola in the envelope
     for (let q = 0; q < width; q++) {
-      const kq = d[o + q] * cellSizeY;
-      const fq = kq * kq; // Infinity stays Infinity
+      const cq = d[o + q];
+      if (cq === Infinity) {
+        fv[q] = Infinity;
+        continue;
+      }
+      const ci = cq | 0;
+      const fq = sqM[ci];
       fv[q] = fq;
-      if (fq === Infinity) continue;
-      const gq = fq / s2 + q * q;
+      const gq = sqOverS2[ci] + q * q;
       g[q] = gq;
       if (k < 0) {
         k = 0;
