@@ -37,7 +37,7 @@ test.describe("the map workspace for an analyst", () => {
   test.use({ storageState: stateFor("analyst") });
   test.setTimeout(180_000);
 
-  test("draws the demo, steps the sea-level strip through the ages, and reads values under the cursor", async ({ page }) => {
+  test("draws the demo, steps the sea-level strip through the ages, reads values under the cursor and draws cross-sections", async ({ page }) => {
     const mapResponse = page.waitForResponse((r) => /\/api\/projects\/\d+\/map/.test(r.url()));
     const map = await openDemoMap(page);
     // Analysts see exact site positions: the probe the viewer test relies on is a real one.
@@ -89,6 +89,29 @@ test.describe("the map workspace for an analyst", () => {
     await expect(page.getByTestId("readout-ddm")).toHaveText(/^\d+° \d{2}\.\d{3}′ S, \d+° \d{2}\.\d{3}′ E$/);
     await expect(page.getByTestId("readout-dd")).toHaveText(/^−\d+\.\d{6}° lat, \d+\.\d{6}° lon$/);
     await expect(readout).toContainText(/Surface elevation −?\d+(\.\d)? m/);
+
+    // A cross-section by two clicks on the map.
+    await page.getByRole("button", { name: "Section" }).click();
+    await page.mouse.click(box.x + box.width * 0.35, box.y + box.height * 0.3);
+    await page.mouse.click(box.x + box.width * 0.65, box.y + box.height * 0.7);
+    const drawer = page.getByRole("region", { name: "Cross-section" });
+    await expect(drawer.getByTestId("section-chart")).toHaveAttribute("data-drawn", "true");
+    await expect(drawer.getByTestId("section-chart").locator("svg").first()).toBeVisible();
+    await expect(drawer.getByTestId("section-exaggeration")).toHaveText(/^Vertical exaggeration ×\d/);
+
+    // Typed ends, across the survey lines and through core VC25-07: horizon, sea levels, the core and its date.
+    await page.getByLabel("A", { exact: true }).fill("483380, 5029000");
+    await page.getByLabel("B", { exact: true }).fill("483380, 5019500");
+    await page.getByRole("button", { name: "Draw section" }).click();
+    await expect(drawer).toContainText("A 483 380, 5 029 000 → B 483 380, 5 019 500 m");
+    await expect(drawer.getByTestId("section-chart")).toHaveAttribute("data-drawn", "true");
+    await expect(drawer.getByTestId("section-exaggeration")).toContainText("buried horizon");
+    await expect(drawer.getByTestId("section-exaggeration")).toContainText(/[1-9]\d* picks · 1 core within the corridor/);
+    await expect(drawer.getByTestId("section-chart")).toContainText("20 ka");
+    await expect(drawer.getByTestId("section-chart")).toContainText("VC25-07");
+    const coreRow = drawer.getByRole("row", { name: /VC25-07/ });
+    await expect(coreRow).toContainText("1.9–2.6 m peat");
+    await expect(coreRow).toContainText("VLM-2281 9420 ± 45 ¹⁴C BP");
   });
 });
 

@@ -67,7 +67,7 @@ function featureLabel(f: Feature): string {
 
 const withAlpha = (c: Rgba, opacity: number): Rgba => [c[0], c[1], c[2], Math.round(c[3] * opacity)];
 
-function textLayer<D>(id: string, data: D[], getPosition: (d: D) => [number, number], getText: (d: D) => string, opts: { size?: number; offsetY?: number; colour?: Rgba; opacity: number; anchor?: "start" | "middle" }) {
+function textLayer<D>(id: string, data: D[], getPosition: (d: D) => [number, number], getText: (d: D) => string, opts: { size?: number; offsetY?: number; colour?: Rgba; opacity: number; anchor?: "start" | "middle"; background?: boolean }) {
   return new TextLayer<D>({
     id,
     data,
@@ -81,9 +81,10 @@ function textLayer<D>(id: string, data: D[], getPosition: (d: D) => [number, num
     getAlignmentBaseline: "center",
     characterSet: "auto",
     fontFamily: "Work Sans, sans-serif",
-    fontSettings: { sdf: true, fontSize: 48, buffer: 6 },
-    outlineWidth: 3,
-    outlineColor: DEEP_900,
+    fontWeight: 500,
+    background: opts.background ?? true,
+    getBackgroundColor: [10, 24, 38, 200],
+    backgroundPadding: [3, 1, 3, 1],
     opacity: opts.opacity,
   });
 }
@@ -139,7 +140,7 @@ function vectorLayers(v: VectorRender): Layer[] {
         opacity: v.opacity,
       }),
     ];
-    if (pointList.length) layers.push(textLayer(`${v.id}-glyphs`, pointList, (d) => d.p, () => s.glyph, { size: v.overlayKind === "cores" ? 14 : 10, colour: s.line, opacity: v.opacity }));
+    if (pointList.length) layers.push(textLayer(`${v.id}-glyphs`, pointList, (d) => d.p, () => s.glyph, { size: v.overlayKind === "cores" ? 14 : 10, colour: s.line, opacity: v.opacity, background: false }));
     if (s.labelled) {
       const labels = [
         ...others.features.map((f) => ({ at: bboxCentre(f.geometry), text: featureLabel(f) })),

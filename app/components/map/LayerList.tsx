@@ -77,7 +77,7 @@ export function LayerList({
                         aria-label={`Opacity of ${d.label}`}
                         className="h-1 flex-1 accent-deep-700"
                       />
-                      <span className="w-8 text-right tabular-nums">{Math.round(s.opacity * 100)} %</span>
+                      <span className="w-10 whitespace-nowrap text-right tabular-nums">{Math.round(s.opacity * 100)} %</span>
                     </label>
                   </div>
                 ) : null}

@@ -242,6 +242,7 @@ export function MapWorkspace({ data, reconstruction: r }: { data: MapData; recon
           {panelOpen ? "Hide layers" : "Layers"}
         </button>
       </div>
+      {sectionMode ? <SectionEnds origin={origin} onDraw={(a, b) => setSection([a, b])} /> : null}
       <div className="flex min-h-0 flex-1">
         <div className="relative min-w-0 flex-1 bg-deep-950" ref={wrapperRef} data-testid="map" data-age={age} data-render-count="0" data-rendered-age="">
           {mounted ? (
@@ -274,6 +275,41 @@ export function MapWorkspace({ data, reconstruction: r }: { data: MapData; recon
       {section.length === 2 ? <SectionDrawer reconstructionId={r.id} from={[section[0][0] + origin.originX, section[0][1] + origin.originY]} to={[section[1][0] + origin.originX, section[1][1] + origin.originY]} ageKa={age} onClose={() => setSection([])} /> : null}
       <SeaLevelStrip points={data.seaLevel.points} label={data.seaLevel.label} agesKa={r.agesKa} ageKa={age} onAge={setAgeKa} playing={playing} onPlay={onPlay} />
     </div>
+  );
+}
+
+/** The section's ends typed as project coordinates: the keyboard's way to draw a section. */
+function SectionEnds({ origin, onDraw }: { origin: { originX: number; originY: number }; onDraw: (a: [number, number], b: [number, number]) => void }) {
+  const [error, setError] = useState<string | null>(null);
+  const parse = (v: FormDataEntryValue | null): [number, number] | null => {
+    const m = /^\s*(-?\d+(?:\.\d+)?)\s*[,;\s]\s*(-?\d+(?:\.\d+)?)\s*$/.exec(String(v ?? ""));
+    return m ? [Number(m[1]) - origin.originX, Number(m[2]) - origin.originY] : null;
+  };
+  return (
+    <form
+      className="flex flex-wrap items-center gap-2 border-b border-sand-200 bg-sand-50 px-3 py-1 text-xs"
+      onSubmit={(e) => {
+        e.preventDefault();
+        const f = new FormData(e.currentTarget);
+        const a = parse(f.get("a"));
+        const b = parse(f.get("b"));
+        if (!a || !b) return setError("Give each end as x, y in metres in the project's CRS, e.g. 483380, 5026120.");
+        setError(null);
+        onDraw(a, b);
+      }}
+    >
+      <span className="text-sediment-600">Click two points on the map, or type the ends (project CRS, m):</span>
+      <label className="flex items-center gap-1">
+        A <input name="a" className="w-40 rounded-sm border border-sand-300 bg-white px-1 py-0.5 tabular-nums" placeholder="x, y" />
+      </label>
+      <label className="flex items-center gap-1">
+        B <input name="b" className="w-40 rounded-sm border border-sand-300 bg-white px-1 py-0.5 tabular-nums" placeholder="x, y" />
+      </label>
+      <button type="submit" className="rounded-sm border border-sand-300 bg-white px-2 py-0.5">
+        Draw section
+      </button>
+      {error ? <span role="alert" className="text-caution-800">{error}</span> : null}
+    </form>
   );
 }
 

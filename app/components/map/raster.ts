@@ -79,7 +79,7 @@ export function colourise(r: DisplayRaster, style: RasterStyle, range: { min: nu
       const code = r.codes[i];
       const o = code * 4;
       if (lut[o + 3] === 0) continue;
-      if (hatch && (col + row) % 6 > 1) continue;
+      if (hatch && (col + row) % 8 !== 0) continue;
       out[i * 4] = lut[o];
       out[i * 4 + 1] = lut[o + 1];
       out[i * 4 + 2] = lut[o + 2];
