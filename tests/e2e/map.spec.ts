@@ -115,6 +115,35 @@ test.describe("the map workspace for an analyst", () => {
   });
 });
 
+test.describe("playing the transgression", () => {
+  test.use({ storageState: stateFor("analyst") });
+  test.setTimeout(180_000);
+
+  test("play draws every age in turn, oldest to youngest, and stops; without a reconstruction the page says what to do", async ({ page }) => {
+    const map = await openDemoMap(page);
+    // Record every age the map reports as drawn, in order.
+    await map.evaluate((el) => {
+      const seen: string[] = [];
+      (window as unknown as { drawnAges: string[] }).drawnAges = seen;
+      new MutationObserver(() => {
+        const a = el.getAttribute("data-rendered-age");
+        if (a && seen[seen.length - 1] !== a) seen.push(a);
+      }).observe(el, { attributes: true, attributeFilter: ["data-rendered-age"] });
+    });
+    await page.getByRole("button", { name: "Play the transgression" }).click();
+    await expect(page.getByRole("button", { name: "Pause" })).toHaveAttribute("aria-pressed", "true");
+    await expect(map).toHaveAttribute("data-rendered-age", "8", { timeout: 60_000 });
+    await expect(page.getByRole("button", { name: "Play the transgression" })).toHaveAttribute("aria-pressed", "false");
+    expect(await page.evaluate(() => (window as unknown as { drawnAges: string[] }).drawnAges)).toEqual(["16", "14", "12", "10", "8"]);
+    await expect(page.getByRole("button", { name: "Younger age" })).toBeDisabled();
+
+    await page.goto(`${page.url().split("?")[0]}?reconstruction=999999`);
+    await expect(page.getByRole("heading", { name: "Reconstruct the landscape first" })).toBeVisible();
+    await page.getByRole("link", { name: "Start a reconstruction" }).click();
+    await expect(page).toHaveURL(/\/projects\/\d+\/reconstructions$/);
+  });
+});
+
 test.describe("the map workspace for a viewer", () => {
   test.use({ storageState: stateFor("viewer") });
   test.setTimeout(180_000);

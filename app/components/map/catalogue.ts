@@ -5,7 +5,7 @@ import type { RasterStyle, ClassEntry } from "./raster";
 import type { MapData } from "./types";
 
 export const LAND_CLASSES: ClassEntry[] = [
-  { value: 0, label: "land", rgb: [196, 182, 150] },
+  { value: 0, label: "land", rgb: [196, 182, 150], alpha: 110 },
   { value: 1, label: "sea", rgb: [63, 106, 140] },
   { value: 2, label: "intertidal", rgb: [127, 157, 180] },
   { value: 3, label: "lake", rgb: [110, 160, 190] },
@@ -30,7 +30,7 @@ export interface RasterDef {
 
 const RASTERS: RasterDef[] = [
   { kind: "raster", id: "potential", layer: "potential", label: "Potential", group: "Potential", style: { kind: "continuous", scale: "viridis" }, visible: true, opacity: 0.75, nearest: false },
-  { kind: "raster", id: "land_class", layer: "land_class", label: "Land and water", group: "At this age", style: { kind: "classes", classes: LAND_CLASSES }, visible: true, opacity: 0.55, nearest: true },
+  { kind: "raster", id: "land_class", layer: "land_class", label: "Land and water", group: "At this age", style: { kind: "classes", classes: LAND_CLASSES }, visible: true, opacity: 0.7, nearest: true },
   { kind: "raster", id: "flooding_age", layer: "flooding_age", label: "Flooding age", group: "Through time", style: { kind: "continuous", scale: "cividis" }, visible: false, opacity: 0.8, nearest: false, note: "when the sea last reached each cell" },
   { kind: "raster", id: "time_near_coast", layer: "time_near_coast", label: "Time near the coast", group: "Through time", style: { kind: "continuous", scale: "viridis" }, visible: false, opacity: 0.8, nearest: false },
   { kind: "raster", id: "unassessed", layer: "unassessed", label: "No horizon here", group: "Ground", style: { kind: "mask", rgb: [214, 200, 171] }, visible: true, opacity: 0.45, nearest: true, note: "hatched: the buried horizon is unassessed" },

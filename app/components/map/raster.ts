@@ -38,6 +38,8 @@ export interface ClassEntry {
   value: number;
   label: string;
   rgb: [number, number, number];
+  /** 0–255, default opaque (land lets the hillshade through) */
+  alpha?: number;
 }
 
 export type RasterStyle =
@@ -62,7 +64,7 @@ export function colourise(r: DisplayRaster, style: RasterStyle, range: { min: nu
       rgba = [g, g, g, 255];
     } else if (style.kind === "classes") {
       const c = style.classes.find((e) => e.value === Math.round(v));
-      rgba = c ? [...c.rgb, 255] : null;
+      rgba = c ? [...c.rgb, c.alpha ?? 255] : null;
     } else if (style.kind === "continuous") {
       const lo = range?.min ?? r.offset;
       const hi = range?.max ?? r.offset + 254 * r.scale;
