@@ -180,10 +180,16 @@ export class PriorityFlood {
       if (traced) {
         // c keeps its own elevation L: neighbours at or above it are final at their own elevation
         let inHeap = false;
+        // two cells or more from every edge: c's neighbours and theirs are all inside the grid
+        const deep = r > 1 && r < h - 2 && col > 1 && col < w - 2;
         for (let k = 0; k < nk; k++) {
-          const rr = r + DR[k];
-          const cc = col + DC[k];
-          if (!inside && (rr < 0 || rr >= h || cc < 0 || cc >= w)) continue;
+          let rr = 0;
+          let cc = 0;
+          if (!deep) {
+            rr = r + DR[k];
+            cc = col + DC[k];
+            if (!inside && (rr < 0 || rr >= h || cc < 0 || cc >= w)) continue;
+          }
           const m = c + off[k];
           if (done[m] !== 0) continue;
           const zm = level[m];
@@ -199,7 +205,7 @@ export class PriorityFlood {
             }
           } else if (!inHeap) {
             // a lower neighbour that a done cell below it will reach anyway needs nothing from c
-            const inner = rr > 0 && rr < h - 1 && cc > 0 && cc < w - 1;
+            const inner = deep || (rr > 0 && rr < h - 1 && cc > 0 && cc < w - 1);
             let covered = false;
             for (let q = 0; q < nk; q++) {
               if (!inner) {
