@@ -244,6 +244,18 @@ function statsF32(data: Float32Array, code: number): LayerStats {
   let mn = Infinity;
   let mx = -Infinity;
   let sum = 0;
+  if (code !== code) {
+    // nodata NaN: every finite value counts (v − v is NaN for NaN and ±Infinity, 0 otherwise)
+    for (let i = 0; i < data.length; i++) {
+      const v = data[i];
+      if (v - v !== 0) continue;
+      k++;
+      if (v < mn) mn = v;
+      if (v > mx) mx = v;
+      sum += v;
+    }
+    return k === 0 ? { validCount: 0, min: null, max: null, mean: null } : { validCount: k, min: mn, max: mx, mean: sum / k };
+  }
   for (let i = 0; i < data.length; i++) {
     const v = data[i];
     if (v !== v || v === code || v === Infinity || v === -Infinity) continue;
