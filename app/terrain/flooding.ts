@@ -185,7 +185,8 @@ export function spillElevation(elev: Grid<Float32Array>, boundaryMask: Uint8Arra
   const q = new CellQueue(1024);
   let next = 0;
   for (let i = 0; i < n; i++) {
-    if (label[i] || nodata[i] || !(z[i] < spill[i]) || spill[i] === Infinity) continue;
+    // most cells lie at their spill elevation: test that first, before reading the label
+    if (!(z[i] < spill[i]) || label[i] || nodata[i] || spill[i] === Infinity) continue;
     next++;
     label[i] = next;
     let floor = z[i];
