@@ -1,26 +1,31 @@
 // The map workspace of a project: the newest published reconstruction's layers on a deck.gl map
 // (browser only), the evidence and planning layers, a cursor readout, the cross-section and the
-// sea-level strip. The page server-renders its chrome; the map's data comes from the map API.
+// sea-level strip. The page server-renders its chrome with the same payload the map API gives
+// this caller (mapPayload decides what each role may see); deck.gl itself loads in the browser.
 import { useQuery } from "@tanstack/react-query";
-import { Link, useSearchParams } from "react-router";
+import { Link } from "react-router";
 import { requireProjectAccess } from "~/permissions.server";
 import { can } from "~/permissions";
+import { mapPayload } from "~/map.server";
 import { mapQuery } from "~/components/map/queries";
+import type { MapData } from "~/components/map/types";
 import { MapWorkspace } from "~/components/map/MapWorkspace";
 import type { Route } from "./+types/project-map";
 
 export const meta: Route.MetaFunction = () => [{ title: "Map · Lowstand" }];
 
 export async function loader({ request, params }: Route.LoaderArgs) {
-  const { project, role } = await requireProjectAccess(request, params.projectId, "project.read");
-  return { projectId: project.id, mayReconstruct: can(role, "runs.start") };
+  const { project, role, identity } = await requireProjectAccess(request, params.projectId, "project.read");
+  const requested = new URL(request.url).searchParams.get("reconstruction");
+  // (the server types GeoJSON geometry loosely; the shape is the API's, checked by the map's tests)
+  const map = (await mapPayload(project, { userId: identity.user.id, role }, requested)) as unknown as MapData;
+  return { projectId: project.id, mayReconstruct: can(role, "runs.start"), map, requested };
 }
 
 export default function ProjectMap({ loaderData }: Route.ComponentProps) {
   const { projectId, mayReconstruct } = loaderData;
-  const [search] = useSearchParams();
-  const requested = /^\d{1,9}$/.test(search.get("reconstruction") ?? "") ? Number(search.get("reconstruction")) : null;
-  const { data, error, isPending } = useQuery(mapQuery(projectId, requested));
+  const requested = /^\d{1,9}$/.test(loaderData.requested ?? "") ? Number(loaderData.requested) : null;
+  const { data, error, isPending } = useQuery({ ...mapQuery(projectId, requested), initialData: loaderData.map as MapData });
   // The workspace takes the whole area beside the project rail (the layout pads other pages).
   return (
     <div className="-mx-8 -my-6 flex h-[calc(100vh-2.75rem)] flex-col" data-testid="map-page">

@@ -38,14 +38,14 @@ test.describe("the map workspace for an analyst", () => {
   test.setTimeout(180_000);
 
   test("draws the demo, steps the sea-level strip through the ages, reads values under the cursor and draws cross-sections", async ({ page }) => {
-    const mapResponse = page.waitForResponse((r) => /\/api\/projects\/\d+\/map/.test(r.url()));
     const map = await openDemoMap(page);
     // Analysts see exact site positions: the probe the viewer test relies on is a real one.
-    const analystView = await (await mapResponse).text();
+    const analystView = await (await page.request.get(page.url().replace(/\/projects\/(\d+)\/map.*$/, "/api/projects/$1/map"))).text();
     expect(analystView).toContain("483410");
     // (VEL-003 is restricted to its community's custodians, owners and leads.)
     for (const site of SITES.filter(([x]) => x !== 486760)) expect(analystView).toMatch(pairPattern(site));
     expect(analystView).not.toMatch(pairPattern([486760, 5020330]));
+    expect(await (await page.request.get(page.url())).text()).toContain("483410"); // the server-rendered page carries the map payload
     await expect(page.getByRole("checkbox", { name: "Known sites", exact: true })).toBeChecked();
 
     const canvas = map.locator("canvas").first();
@@ -167,10 +167,15 @@ test.describe("the map workspace for a viewer", () => {
     await page.getByRole("button", { name: "Younger age" }).click();
     await waitForAge(map, "16", before);
 
+    // The page as the browser shows it, as the server sends it, its route data (fetched when the
+    // rail link was followed), the map API, and every per-age vector response.
     const html = await page.content();
-    expect(bodies.some((b) => /\/api\/projects\/\d+\/map/.test(b.url))).toBe(true);
+    const served = await (await page.request.get(page.url())).text();
+    const api = await (await page.request.get(page.url().replace(/\/projects\/(\d+)\/map.*$/, "/api/projects/$1/map"))).text();
+    expect(api).toContain('"generalised"');
+    expect(bodies.some((b) => /\/projects\/\d+\/map\.data/.test(b.url))).toBe(true);
     expect(bodies.some((b) => /\/vectors\/shoreline\?age=16/.test(b.url))).toBe(true);
-    for (const text of [html, ...bodies.map((b) => b.text)]) {
+    for (const text of [html, served, api, ...bodies.map((b) => b.text)]) {
       for (const c of SITE_ONLY_NUMBERS) expect(text).not.toContain(c);
       for (const site of SITES) expect(text).not.toMatch(pairPattern(site));
     }
