@@ -55,6 +55,7 @@ test.describe("the map workspace for an analyst", () => {
     let before = await renderCount(map);
     await page.getByRole("button", { name: "Younger age" }).click();
     await waitForAge(map, "16", before);
+    await expect(page.getByTestId("age-summary")).toContainText(/^16 ka BP · sea level −\d+\.\d mland \d+ % · sea \d+ %/);
     const at16 = await canvas.screenshot();
     expect(at16.equals(at20)).toBe(false);
 

@@ -244,7 +244,7 @@ export function MapWorkspace({ data, reconstruction: r }: { data: MapData; recon
       </div>
       {sectionMode ? <SectionEnds origin={origin} onDraw={(a, b) => setSection([a, b])} /> : null}
       <div className="flex min-h-0 flex-1">
-        <div className="relative min-w-0 flex-1 bg-deep-950" ref={wrapperRef} data-testid="map" data-age={age} data-render-count="0" data-rendered-age="">
+        <div role="region" aria-label={`Map at ${age} ka BP (values under the pointer in the readout below)`} className="relative min-w-0 flex-1 bg-deep-950" ref={wrapperRef} data-testid="map" data-age={age} data-render-count="0" data-rendered-age="">
           {mounted ? (
             <Suspense fallback={<p className="p-4 text-sm text-sea-200">Loading the map…</p>}>
               <DeckMap extentM={extentM} rasters={stableRasters} vectors={stableVectors} section={section} crosshair={sectionMode} onHover={onHover} onClick={onMapClick} onAfterRender={onAfterRender} fitSignal={fitSignal} frameTag={`${age}:${ready}`} />
@@ -258,6 +258,7 @@ export function MapWorkspace({ data, reconstruction: r }: { data: MapData; recon
         </div>
         {panelOpen ? (
           <aside id="map-panel" aria-label="Layers" className="w-80 shrink-0 overflow-y-auto border-l border-sand-200 bg-sand-50 p-3">
+            <AgeSummary ageKa={age} ages={r.ages} />
             <h2 className="mb-2 text-sm font-semibold">Layers</h2>
             <LayerList defs={defs} state={layerState} status={status} onChange={(id, next) => setLayerState((s) => ({ ...s, [id]: next }))} />
             <p className="mt-4 text-xs text-sediment-600">
@@ -275,6 +276,22 @@ export function MapWorkspace({ data, reconstruction: r }: { data: MapData; recon
       {section.length === 2 ? <SectionDrawer reconstructionId={r.id} from={[section[0][0] + origin.originX, section[0][1] + origin.originY]} to={[section[1][0] + origin.originX, section[1][1] + origin.originY]} ageKa={age} onClose={() => setSection([])} /> : null}
       <SeaLevelStrip points={data.seaLevel.points} label={data.seaLevel.label} agesKa={r.agesKa} ageKa={age} onAge={setAgeKa} playing={playing} onPlay={onPlay} />
     </div>
+  );
+}
+
+/** The current age in words: sea level and how much of the grid is land, sea, intertidal and lake. */
+function AgeSummary({ ageKa, ages }: { ageKa: number; ages: Reconstruction["ages"] }) {
+  const a = ages?.find((x) => x.ageKa === ageKa);
+  if (!a) return null;
+  const total = a.counts.land + a.counts.sea + a.counts.intertidal + a.counts.lake;
+  const pct = (n: number) => (total ? `${((100 * n) / total).toFixed(n && n < total / 100 ? 1 : 0)} %` : "—");
+  return (
+    <p className="mb-3 rounded-sm border-l-4 border-ember-500 bg-white px-2 py-1 text-xs tabular-nums text-sediment-800" data-testid="age-summary">
+      <span className="font-semibold">{ageKa} ka BP</span>
+      {a.seaLevelM !== null ? ` · sea level ${a.seaLevelM.toFixed(1).replace("-", "−")} m` : ""}
+      <br />
+      land {pct(a.counts.land)} · sea {pct(a.counts.sea)} · intertidal {pct(a.counts.intertidal)} · lake {pct(a.counts.lake)} of the grid
+    </p>
   );
 }
 

@@ -165,7 +165,7 @@ export function SeaLevelStrip({ points, label, agesKa, ageKa, onAge, playing, on
             m
           </text>
           <path d={fillPath} fill="#3f6a8c" fillOpacity={0.55} />
-          <path d={bandPath} fill="#bfd0dc" fillOpacity={0.22} />
+          <path d={bandPath} fill="#bfd0dc" fillOpacity={0.35} />
           <polyline points={curve.join(" ")} fill="none" stroke="#bfd0dc" strokeWidth={1.5} />
           {agesKa.map((a) => {
             const s = seaLevelAt(points, a);

@@ -32,11 +32,14 @@ export function SectionDrawer({ reconstructionId, from, to, ageKa, onClose }: { 
   );
 }
 
+const cores0 = (d: SectionData) => d.cores.filter((c) => c.seabedElevationM !== null);
+
 function SectionBody({ data, ageKa }: { data: SectionData; ageKa: number }) {
   const boxRef = useRef<HTMLDivElement>(null);
   const chartRef = useRef<HTMLDivElement>(null);
   const [width, setWidth] = useState(900);
   const [ve, setVe] = useState<number | null>(null);
+  const [fitGround, setFitGround] = useState(false);
   useLayoutEffect(() => {
     const el = boxRef.current;
     if (!el) return;
@@ -64,8 +67,10 @@ function SectionBody({ data, ageKa }: { data: SectionData; ageKa: number }) {
         ...data.picks.map((p) => p.elevationM),
         ...data.cores.flatMap((c) => (c.seabedElevationM === null ? [] : [c.seabedElevationM, c.seabedElevationM - c.penetrationM])),
       ].filter((v): v is number => v !== null && Number.isFinite(v));
-      const lo = Math.min(...heights);
-      const hi = Math.max(...heights);
+      const groundOnly = [...samples.flatMap((s) => [s.seabedM, s.horizonM]), ...data.picks.map((p) => p.elevationM), ...cores0(data).flatMap((c) => [c.seabedElevationM!, c.seabedElevationM! - c.penetrationM])].filter((v): v is number => v !== null && Number.isFinite(v));
+      const span = fitGround && groundOnly.length ? groundOnly : heights;
+      const lo = Math.min(...span);
+      const hi = Math.max(...span);
       const pad = Math.max(1, (hi - lo) * 0.06);
       const yDomain: [number, number] = [lo - pad, hi + pad];
       const height = 240;
@@ -89,6 +94,7 @@ function SectionBody({ data, ageKa }: { data: SectionData; ageKa: number }) {
         style: { fontFamily: "Work Sans, sans-serif", fontSize: "11px", background: "transparent", color: "#34302b" },
         x: { domain: [0, lengthKm], label: "distance from A (km)" },
         y: { domain: yDomain, label: "elevation (m, present MSL)", grid: true },
+        clip: true,
         marks: [
           // Sea level at each age: a band for ±σ and a rule, labelled at B; the current age in the accent.
           Plot.rectY(seaLevels.filter((a) => a.sigmaM !== null), { x1: 0, x2: lengthKm, y1: (a) => a.seaLevelM - (a.sigmaM ?? 0), y2: (a) => a.seaLevelM + (a.sigmaM ?? 0), fill: (a) => (a.ageKa === ageKa ? EMBER : SEA), fillOpacity: 0.16 }),
@@ -134,7 +140,7 @@ function SectionBody({ data, ageKa }: { data: SectionData; ageKa: number }) {
     return () => {
       cancelled = true;
     };
-  }, [data, ageKa, width, hasHorizon, hasFlooding]);
+  }, [data, ageKa, width, hasHorizon, hasFlooding, fitGround]);
 
   return (
     <div ref={boxRef}>
@@ -150,6 +156,10 @@ function SectionBody({ data, ageKa }: { data: SectionData; ageKa: number }) {
         )}{" "}
         · sea level at each age (±σ band), {ageKa} ka in orange · {data.picks.length} pick{data.picks.length === 1 ? "" : "s"} · {data.cores.length} core{data.cores.length === 1 ? "" : "s"} within the corridor
       </p>
+      <label className="mt-1 flex items-center gap-1 text-xs text-sediment-600">
+        <input type="checkbox" checked={fitGround} onChange={(e) => setFitGround(e.target.checked)} className="accent-deep-700" />
+        Fit the height to the ground (sea levels outside it are cut off)
+      </label>
       <div ref={chartRef} role="img" aria-label={`Cross-section profile, ${(data.lengthM / 1000).toFixed(2)} km: seabed, ${hasHorizon ? "buried horizon, " : ""}sea levels at ${data.ages.length} ages, ${data.cores.length} cores`} data-testid="section-chart" />
       {data.cores.length ? (
         <table className="mt-2 w-full text-left text-xs">

@@ -33,7 +33,7 @@ const RASTERS: RasterDef[] = [
   { kind: "raster", id: "land_class", layer: "land_class", label: "Land and water", group: "At this age", style: { kind: "classes", classes: LAND_CLASSES }, visible: true, opacity: 0.7, nearest: true },
   { kind: "raster", id: "flooding_age", layer: "flooding_age", label: "Flooding age", group: "Through time", style: { kind: "continuous", scale: "cividis" }, visible: false, opacity: 0.8, nearest: false, note: "when the sea last reached each cell" },
   { kind: "raster", id: "time_near_coast", layer: "time_near_coast", label: "Time near the coast", group: "Through time", style: { kind: "continuous", scale: "viridis" }, visible: false, opacity: 0.8, nearest: false },
-  { kind: "raster", id: "unassessed", layer: "unassessed", label: "No horizon here", group: "Ground", style: { kind: "mask", rgb: [214, 200, 171] }, visible: true, opacity: 0.45, nearest: true, note: "hatched: the buried horizon is unassessed" },
+  { kind: "raster", id: "unassessed", layer: "unassessed", label: "No horizon here", group: "Ground", style: { kind: "mask", rgb: [214, 200, 171] }, visible: true, opacity: 0.3, nearest: true, note: "hatched: the buried horizon is unassessed" },
   { kind: "raster", id: "analysis_surface", layer: "analysis_surface", label: "Surface elevation", group: "Ground", style: { kind: "continuous", scale: "cividis" }, visible: false, opacity: 0.6, nearest: false, alwaysRead: true },
   { kind: "raster", id: "hillshade", layer: "hillshade", label: "Hillshade", group: "Ground", style: { kind: "grey" }, visible: true, opacity: 1, nearest: false },
 ];

@@ -58,6 +58,8 @@ export interface MapData {
     /** oldest first */
     agesKa: number[];
     layers: MapLayerInfo[];
+    /** per age: the sea level used and the cells in each class (from the manifest) */
+    ages?: Array<{ ageKa: number; seaLevelM: number | null; counts: { sea: number; intertidal: number; lake: number; land: number } }>;
   };
   seaLevel: { label: string; citation: string | null; points: SeaLevelPoint[] };
   overlays: MapOverlay[];
