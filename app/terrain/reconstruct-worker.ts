@@ -4,7 +4,10 @@
  * SharedArrayBuffers and shared by every worker; each worker takes the next job (the age-independent
  * layers, or one age) from the main thread, and sends every finished layer back with its buffer
  * transferred (no copy), waiting for the sink to take it before going on, so at most one layer per
- * worker is in flight. Cancellation: a shared flag the workers poll through shouldCancel.
+ * worker is in flight. Cancellation: a shared flag the workers poll through shouldCancel. The
+ * threads are started by the runner's `warmUp`, which reconstruct() calls before it builds the
+ * analysis surface and the spill elevation, so loading them overlaps that work; each job message
+ * carries the (shared-memory) context.
  *
  * Node 20 cannot start a .ts file as a worker, so the worker starts scripts/run-ts.mjs (which
  * registers tsx) with this file as its entry.
