@@ -62,8 +62,8 @@ export function nextUpF32(x: number): number {
  * to a plain "pit" queue instead of the priority queue) with the slope tracing of Zhou, G., Sun, Z. &
  * Fu, S. (2016) "An efficient variant of the Priority-Flood algorithm for filling depressions in raster
  * digital elevation models", Computers & Geosciences 90(A): 87–96, doi:10.1016/j.cageo.2016.02.021
- * (cells reached from below keep their elevation and are traced upwards through a plain stack, so few
- * cells enter the heap; priority-flood.ts); Algorithm 3 (Priority-Flood+ε, FIFO pit queue, heap ties
+ * (cells reached from below keep their elevation and are traced upwards through a plain FIFO queue, so
+ * few cells enter the heap; priority-flood.ts); Algorithm 3 (Priority-Flood+ε, FIFO pit queue, heap ties
  * by insertion order) when `epsilon` is set.
  *
  * Preconditions: elevation in m, NaN and mask on nodata; `outlets` marks valid cells where water

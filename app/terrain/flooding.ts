@@ -138,7 +138,7 @@ export interface SpillResult {
  * queue), with the slope tracing of Zhou, G., Sun, Z. & Fu, S. (2016) "An efficient variant of the
  * Priority-Flood algorithm for filling depressions in raster digital elevation models", Computers &
  * Geosciences 90(A): 87–96, doi:10.1016/j.cageo.2016.02.021 (cells reached from below keep their own
- * elevation and are traced upwards through a plain stack; few cells enter the heap) — see
+ * elevation and are traced upwards through a plain FIFO queue; few cells enter the heap) — see
  * priority-flood.ts. Here 4-connected and seeded only from the boundary cells, so the filled level of
  * each cell is its spill elevation (connected flooding, not a bathtub).
  *
