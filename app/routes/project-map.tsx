@@ -25,18 +25,14 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 export default function ProjectMap({ loaderData }: Route.ComponentProps) {
   const { projectId, mayReconstruct } = loaderData;
   const requested = /^\d{1,9}$/.test(loaderData.requested ?? "") ? Number(loaderData.requested) : null;
-  const { data, error, isPending } = useQuery({ ...mapQuery(projectId, requested), initialData: loaderData.map as MapData });
+  const { data, error } = useQuery({ ...mapQuery(projectId, requested), initialData: loaderData.map });
   // The workspace takes the whole area beside the project rail (the layout pads other pages).
   return (
     <div className="-mx-8 -my-6 flex h-[calc(100vh-2.75rem)] flex-col" data-testid="map-page">
-      {isPending ? (
-        <Frame>
-          <p className="text-sm text-sea-200">Loading the map…</p>
-        </Frame>
-      ) : error ? (
+      {!data ? (
         <Frame>
           <p role="alert" className="text-sm text-caution-100">
-            {error.message}
+            {error?.message ?? "The map could not be loaded."}
           </p>
         </Frame>
       ) : !data.reconstruction ? (

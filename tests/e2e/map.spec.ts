@@ -17,7 +17,12 @@ async function openDemoMap(page: Page): Promise<Locator> {
   await rail.getByRole("link", { name: "Reconstructions" }).click();
   await page.getByRole("link", { name: "Demo: last deglaciation" }).click();
   await expect(page.getByTestId("reconstruction")).toHaveAttribute("data-status", "published", { timeout: 120_000 });
+  const reconstructionId = /\/reconstructions\/(\d+)/.exec(page.url())![1];
   await rail.getByRole("link", { name: "Map", exact: true }).click();
+  await expect(page.getByTestId("map-page")).toBeVisible();
+  // The map opens on the newest published reconstruction; other tests may have published more,
+  // so ask for the demo's own (server-rendered this time).
+  await page.goto(`${page.url().split("?")[0]}?reconstruction=${reconstructionId}`);
   const map = page.getByTestId("map");
   await expect(map).toHaveAttribute("data-age", "20");
   await expect(map).toHaveAttribute("data-rendered-age", "20", { timeout: 60_000 });

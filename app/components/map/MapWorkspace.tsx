@@ -1,7 +1,7 @@
 // The map workspace: the map (deck.gl, browser only) with the working panel beside it, the cursor
 // readout under it, the section drawer and the sea-level strip along the bottom. Every per-age
 // layer follows the age chosen on the strip.
-import { keepPreviousData, useQueries, useQueryClient } from "@tanstack/react-query";
+import { useQueries, useQueryClient, type Query } from "@tanstack/react-query";
 import { lazy, Suspense, useCallback, useEffect, useMemo, useRef, useState } from "react";
 import { Link } from "react-router";
 import type { FeatureCollection } from "geojson";
@@ -47,11 +47,12 @@ export function MapWorkspace({ data, reconstruction: r }: { data: MapData; recon
   // Rasters: every visible one, and the ones the readout always reads.
   const wantedRasters = rasterDefs.filter((d) => stateOf(d).visible || d.alwaysRead);
   const rasterResults = useQueries({
-    queries: wantedRasters.map((d) => ({ ...rasterQuery(r.id, d.layer, rasterAge(d)), placeholderData: keepPreviousData })),
+    // While another age loads, keep showing the same layer at the age before (never another layer's data).
+    queries: wantedRasters.map((d) => ({ ...rasterQuery(r.id, d.layer, rasterAge(d)), placeholderData: sameLayer<DisplayRaster>(d.layer) })),
   });
   const wantedVectors = ageVectorDefs.filter((d) => stateOf(d).visible);
   const vectorResults = useQueries({
-    queries: wantedVectors.map((d) => ({ ...vectorQuery(r.id, (d.source as { what: string }).what, ageKa, origin), placeholderData: keepPreviousData, retry: false })),
+    queries: wantedVectors.map((d) => ({ ...vectorQuery(r.id, (d.source as { what: string }).what, ageKa, origin), placeholderData: sameLayer<FeatureCollection>((d.source as { what: string }).what), retry: false })),
   });
 
   // Step back and forth instantly: fetch the neighbouring ages' per-age layers in the background.
@@ -328,6 +329,11 @@ function SectionEnds({ origin, onDraw }: { origin: { originX: number; originY: n
       {error ? <span role="alert" className="text-caution-800">{error}</span> : null}
     </form>
   );
+}
+
+/** placeholderData that keeps the previous result only when it was the same layer (keys: [kind, id, layer, age]). */
+function sameLayer<T>(layer: string) {
+  return (previous: T | undefined, previousQuery: Query<T, Error, T, readonly unknown[]> | undefined) => (previousQuery?.queryKey[2] === layer ? previous : undefined);
 }
 
 const ids = new WeakMap<object, number>();
