@@ -314,8 +314,8 @@ function statsI32(data: Int32Array, code: number): LayerStats {
   return k === 0 ? { validCount: 0, min: null, max: null, mean: null } : { validCount: k, min: mn, max: mx, mean: sum / k };
 }
 
-function out(name: string, ageKa: number | null, type: LayerType, units: string, nodata: number | "NaN", data: Layer): LayerOut {
-  return { name, ageKa, type, units, nodata, data, stats: layerStats(data, nodata) };
+function out(name: string, ageKa: number | null, type: LayerType, units: string, nodata: number | "NaN", data: Layer, stats?: LayerStats): LayerOut {
+  return { name, ageKa, type, units, nodata, data, stats: stats ?? layerStats(data, nodata) };
 }
 
 function checkCancel(control: RunControl | undefined, step: string): void {
@@ -326,10 +326,27 @@ function checkCancel(control: RunControl | undefined, step: string): void {
  * Exact distance (m) to the cells of `features`, NaN on nodata; NaN everywhere when there is no
  * feature (the manifest's feature counts say so). Felzenszwalb & Huttenlocher (2012). O(n).
  */
-function distanceLayer(features: Uint8Array, spec: GridSpec, nodata: Uint8Array): Float32Array {
+function distanceLayer(features: Uint8Array, spec: GridSpec, nodata: Uint8Array): { d: Float32Array; stats: LayerStats } {
   const d = euclideanDistance(features, spec.width, spec.height, spec.cellSizeX, spec.cellSizeY);
-  for (let i = 0; i < d.length; i++) if (nodata[i] !== 0 || d[i] === Infinity) d[i] = NaN;
-  return d;
+  // nodata and "no feature" become NaN, and the statistics of what is left are taken in the same
+  // pass — the same values summed in the same order as layerStats would
+  let k = 0;
+  let mn = Infinity;
+  let mx = -Infinity;
+  let sum = 0;
+  for (let i = 0; i < d.length; i++) {
+    const v = d[i];
+    if (nodata[i] !== 0 || v === Infinity) {
+      d[i] = NaN;
+      continue;
+    }
+    k++;
+    if (v < mn) mn = v;
+    if (v > mx) mx = v;
+    sum += v;
+  }
+  const stats = k === 0 ? { validCount: 0, min: null, max: null, mean: null } : { validCount: k, min: mn, max: mx, mean: sum / k };
+  return { d, stats };
 }
 
 function countOnes(m: Uint8Array): number {
@@ -389,9 +406,9 @@ export async function reconstructStatic(ctx: AgeContext, emit: LayerSink, contro
   await emit(out("time_near_coast", null, "float32", "ka", "NaN", hist.timeNearCoastKa));
   await emit(out("time_intertidal", null, "float32", "ka", "NaN", hist.timeIntertidalKa));
   if (ctx.palaeochannels) {
-    const d = distanceLayer(ctx.palaeochannels, spec, nodata);
+    const { d, stats } = distanceLayer(ctx.palaeochannels, spec, nodata);
     step("distance to palaeochannel", 0.95);
-    await emit(out("dist_palaeochannel", null, "float32", "m", "NaN", d));
+    await emit(out("dist_palaeochannel", null, "float32", "m", "NaN", d, stats));
   }
   control?.onProgress?.(1, "age-independent layers");
   return { timingsMs: t };
@@ -501,9 +518,9 @@ export async function reconstructAge(ctx: AgeContext, ageKa: number, emit: Layer
   ];
   let k = 0;
   for (const [name, mask] of features) {
-    const d = distanceLayer(mask, spec, nodata);
+    const { d, stats } = distanceLayer(mask, spec, nodata);
     step("distances", 0.65 + 0.05 * ++k);
-    await emit(out(name, ageKa, "float32", "m", "NaN", d));
+    await emit(out(name, ageKa, "float32", "m", "NaN", d, stats));
   }
   await emit(out("shoreline", ageKa, "uint8", "mask", 255, markNodata(shore, nodata)));
   await emit(out("river_mouths", ageKa, "uint8", "mask", 255, markNodata(mouths, nodata)));
