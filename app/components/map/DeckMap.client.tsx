@@ -13,6 +13,7 @@ type Rgba = [number, number, number, number];
 export type VectorRender =
   | { id: string; type: "age-lines"; what: "shoreline" | "streams" | "lake_margins"; data: FeatureCollection; opacity: number }
   | { id: string; type: "overlay"; overlayKind: string; data: FeatureCollection; opacity: number }
+  | { id: string; type: "mask-points"; what: "river_mouths" | "confluences"; data: Array<[number, number]>; opacity: number }
   | { id: string; type: "sites-exact"; data: Array<{ label: string; x: number; y: number }>; opacity: number }
   | { id: string; type: "sites-generalised"; cellSizeM: number; data: Array<{ x: number; y: number; count: number }>; opacity: number };
 
@@ -118,6 +119,26 @@ function vectorLayers(v: VectorRender): Layer[] {
         getLineWidth: shoreline ? 2 : 1.2,
         lineWidthUnits: "pixels",
         lineJointRounded: true,
+        opacity: v.opacity,
+      }),
+    ];
+  }
+  if (v.type === "mask-points") {
+    // River mouths as filled dots ringed dark, confluences as hollow rings: shape as well as colour.
+    const mouths = v.what === "river_mouths";
+    return [
+      new ScatterplotLayer<[number, number]>({
+        id: v.id,
+        data: v.data,
+        getPosition: (d) => d,
+        getRadius: mouths ? 4 : 3,
+        radiusUnits: "pixels",
+        stroked: true,
+        filled: mouths,
+        getFillColor: [191, 208, 220, 255],
+        getLineColor: mouths ? DEEP_900 : [191, 208, 220, 255],
+        getLineWidth: mouths ? 1.5 : 1.2,
+        lineWidthUnits: "pixels",
         opacity: v.opacity,
       }),
     ];

@@ -94,6 +94,7 @@ export function LayerList({
 function Legend({ def, status }: { def: LayerDef; status: LayerStatus }) {
   const note = def.note ? <p className="text-xs text-sediment-600">{def.note}</p> : null;
   if (def.kind === "vector") {
+    if (def.source.type === "mask") return status.empty ? <p className="text-xs text-sediment-600">none at this age</p> : note;
     const key = def.source.type === "age" ? def.source.what : def.source.type === "overlay" ? def.source.overlayKind : "sites";
     if (status.empty) return <p className="text-xs text-sediment-600">none at this age</p>;
     if (key === "streams") {

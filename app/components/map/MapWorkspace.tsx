@@ -43,6 +43,7 @@ export function MapWorkspace({ data, reconstruction: r }: { data: MapData; recon
   const rasterDefs = defs.filter((d): d is RasterDef => d.kind === "raster");
   const ageVectorDefs = defs.filter((d): d is VectorDef => d.kind === "vector" && d.source.type === "age");
   const rasterAge = (d: RasterDef) => (perAge.has(d.layer) ? ageKa : null);
+  const unitsOf = (layer: string) => r.layers.find((l) => l.name === layer)?.units;
 
   // Rasters: every visible one, and the ones the readout always reads.
   const wantedRasters = rasterDefs.filter((d) => stateOf(d).visible || d.alwaysRead);
@@ -55,12 +56,18 @@ export function MapWorkspace({ data, reconstruction: r }: { data: MapData; recon
     queries: wantedVectors.map((d) => ({ ...vectorQuery(r.id, (d.source as { what: string }).what, ageKa, origin), placeholderData: sameLayer<FeatureCollection>((d.source as { what: string }).what), retry: false })),
   });
 
+  const maskDefs = defs.filter((d): d is VectorDef => d.kind === "vector" && d.source.type === "mask" && stateOf(d).visible);
+  const maskResults = useQueries({
+    queries: maskDefs.map((d) => ({ ...rasterQuery(r.id, (d.source as { layer: string }).layer, ageKa), placeholderData: sameLayer<DisplayRaster>((d.source as { layer: string }).layer) })),
+  });
+
   // Step back and forth instantly: fetch the neighbouring ages' per-age layers in the background.
   useEffect(() => {
     const i = r.agesKa.indexOf(ageKa);
     for (const a of [r.agesKa[i + 1], r.agesKa[i - 1]]) {
       if (a === undefined) continue;
       for (const d of wantedRasters) if (perAge.has(d.layer)) void queryClient.prefetchQuery(rasterQuery(r.id, d.layer, a));
+      for (const d of maskDefs) void queryClient.prefetchQuery(rasterQuery(r.id, (d.source as { layer: string }).layer, a));
       for (const d of wantedVectors) void queryClient.prefetchQuery({ ...vectorQuery(r.id, (d.source as { what: string }).what, a, origin), retry: false });
     }
     // eslint-disable-next-line react-hooks/exhaustive-deps
@@ -77,7 +84,7 @@ export function MapWorkspace({ data, reconstruction: r }: { data: MapData; recon
       loading: q?.isFetching ?? true,
       error: q?.error ? q.error.message : null,
       range: raster ? { min: raster.offset, max: raster.offset + 254 * raster.scale } : null,
-      units: raster?.units ?? r.layers.find((l) => l.name === d.layer)?.units,
+      units: unitsOf(d.layer) ?? raster?.units,
     };
     if (raster) loaded.set(d.id, { def: d, raster, current: !q.isPlaceholderData });
   });
@@ -87,7 +94,14 @@ export function MapWorkspace({ data, reconstruction: r }: { data: MapData; recon
     status[d.id] = { loading: q?.isFetching ?? true, error: q?.error ? "Not available for this reconstruction yet." : null, empty: !!q?.data && q.data.features.length === 0 && !q.isPlaceholderData };
     if (q?.data) vectorData.set(d.id, q.data);
   });
-  const ready = rasterResults.every((q) => (q.data && !q.isPlaceholderData) || q.isError) && vectorResults.every((q) => (q.data && !q.isPlaceholderData) || q.isError);
+  const maskPoints = new Map<string, Array<[number, number]>>();
+  maskDefs.forEach((d, i) => {
+    const q = maskResults[i];
+    const points = q?.data ? cellPoints(q.data, grid.cellSizeX, grid.cellSizeY) : null;
+    status[d.id] = { loading: q?.isFetching ?? true, error: q?.error ? q.error.message : null, empty: !!points && points.length === 0 && !q.isPlaceholderData };
+    if (points) maskPoints.set(d.id, points);
+  });
+  const ready = maskResults.every((q) => (q.data && !q.isPlaceholderData) || q.isError) && rasterResults.every((q) => (q.data && !q.isPlaceholderData) || q.isError) && vectorResults.every((q) => (q.data && !q.isPlaceholderData) || q.isError);
 
   const rasterRenders: RasterRender[] = [];
   if (mounted) {
@@ -120,7 +134,10 @@ export function MapWorkspace({ data, reconstruction: r }: { data: MapData; recon
       const s = stateOf(d);
       if (!s.visible) continue;
       const src = d.source;
-      if (src.type === "age") {
+      if (src.type === "mask") {
+        const pts = maskPoints.get(d.id);
+        if (pts) vectorRenders.push({ id: d.id, type: "mask-points", what: src.layer, data: pts, opacity: s.opacity });
+      } else if (src.type === "age") {
         const fc = vectorData.get(d.id);
         if (fc) vectorRenders.push({ id: d.id, type: "age-lines", what: src.what, data: fc, opacity: s.opacity });
       } else if (src.type === "overlay") {
@@ -200,7 +217,7 @@ export function MapWorkspace({ data, reconstruction: r }: { data: MapData; recon
       const l = loaded.get(d.id);
       if (!l || d.layer === "hillshade" || !(stateOf(d).visible || d.alwaysRead)) continue;
       const v = rasterValue(l.raster, col, row);
-      const text = v === null ? "—" : d.style.kind === "classes" ? (LAND_CLASSES.find((c) => c.value === Math.round(v))?.label ?? String(Math.round(v))) : d.style.kind === "mask" ? (Math.round(v) >= 1 ? "yes" : "no") : fmtValue(v, l.raster.units);
+      const text = v === null ? "—" : d.style.kind === "classes" ? (LAND_CLASSES.find((c) => c.value === Math.round(v))?.label ?? String(Math.round(v))) : d.style.kind === "mask" ? (Math.round(v) >= 1 ? "yes" : "no") : fmtValue(v, unitsOf(d.layer) ?? l.raster.units);
       readoutValues.push({ label: d.label + (perAge.has(d.layer) ? ` (${ageKa} ka)` : ""), text });
     }
   }
@@ -329,6 +346,21 @@ function SectionEnds({ origin, onDraw }: { origin: { originX: number; originY: n
       {error ? <span role="alert" className="text-caution-800">{error}</span> : null}
     </form>
   );
+}
+
+/** The centres (relative to the origin) of a mask's set cells, once per loaded array. */
+const pointCache = new WeakMap<DisplayRaster, Array<[number, number]>>();
+function cellPoints(m: DisplayRaster, cellSizeX: number, cellSizeY: number): Array<[number, number]> {
+  let pts = pointCache.get(m);
+  if (!pts) {
+    pts = [];
+    for (let i = 0; i < m.codes.length; i++) {
+      const v = rasterValue(m, i % m.width, Math.floor(i / m.width));
+      if (v !== null && Math.round(v) >= 1) pts.push([((i % m.width) + 0.5) * cellSizeX, -(Math.floor(i / m.width) + 0.5) * cellSizeY]);
+    }
+    pointCache.set(m, pts);
+  }
+  return pts;
 }
 
 /** placeholderData that keeps the previous result only when it was the same layer (keys: [kind, id, layer, age]). */

@@ -45,7 +45,12 @@ export interface VectorDef {
   group: string;
   visible: boolean;
   opacity: number;
-  source: { type: "age"; what: "shoreline" | "streams" | "lake_margins" } | { type: "overlay"; datasetId: number; overlayKind: string } | { type: "sites" };
+  source:
+    | { type: "age"; what: "shoreline" | "streams" | "lake_margins" }
+    /** cells of a per-age mask layer drawn as points */
+    | { type: "mask"; layer: "river_mouths" | "confluences" }
+    | { type: "overlay"; datasetId: number; overlayKind: string }
+    | { type: "sites" };
   note?: string;
 }
 
@@ -77,6 +82,8 @@ export function layerCatalogue(data: MapData): LayerDef[] {
       { kind: "vector", id: "streams", label: "Streams", group: "At this age", visible: true, opacity: 0.9, source: { type: "age", what: "streams" }, note: "width by Strahler order" },
       { kind: "vector", id: "lake_margins", label: "Lake margins", group: "At this age", visible: true, opacity: 0.9, source: { type: "age", what: "lake_margins" } },
     );
+    if (names.has("river_mouths")) defs.push({ kind: "vector", id: "river_mouths", label: "River mouths", group: "At this age", visible: true, opacity: 1, source: { type: "mask", layer: "river_mouths" }, note: "● estuary candidates" });
+    if (names.has("confluences")) defs.push({ kind: "vector", id: "confluences", label: "Confluences", group: "At this age", visible: false, opacity: 1, source: { type: "mask", layer: "confluences" }, note: "○ where streams join" });
     for (const d of RASTERS) if (names.has(d.layer)) defs.push({ ...d });
   }
   const g = data.sites.generalised;

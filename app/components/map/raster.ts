@@ -24,7 +24,17 @@ export async function fetchDisplayRaster(reconstructionId: number, name: string,
   const height = Number(h("Height"));
   const codes = new Uint8Array(await res.arrayBuffer());
   if (!(width > 0 && height > 0) || codes.length !== width * height) throw new Error(`The ${name.replace(/_/g, " ")} layer arrived damaged.`);
-  return { width, height, scale: Number(h("Scale")), offset: Number(h("Offset")), nodataCode: Number(h("Nodata-Code")), units: h("Units") ?? "", codes };
+  return { width, height, scale: Number(h("Scale")), offset: Number(h("Offset")), nodataCode: Number(h("Nodata-Code")), units: decodeUnits(h("Units")), codes };
+}
+
+/** Header values are Latin-1 only: units may arrive percent-encoded (e.g. "grey level 1%E2%80%93255"). */
+function decodeUnits(v: string | null): string {
+  if (!v) return "";
+  try {
+    return decodeURIComponent(v);
+  } catch {
+    return v;
+  }
 }
 
 /** The value in the cell (col, row), or null off the grid or on nodata. */
