@@ -70,7 +70,7 @@ export function MapWorkspace({ data, reconstruction: r }: { data: MapData; recon
       for (const d of maskDefs) void queryClient.prefetchQuery(rasterQuery(r.id, (d.source as { layer: string }).layer, a));
       for (const d of wantedVectors) void queryClient.prefetchQuery({ ...vectorQuery(r.id, (d.source as { what: string }).what, a, origin), retry: false });
     }
-    // eslint-disable-next-line react-hooks/exhaustive-deps
+    // (only when the age changes: the lists above are rebuilt on every render)
   }, [ageKa, r.id]);
 
   // Colour each raster once per loaded array (and style).
@@ -117,7 +117,7 @@ export function MapWorkspace({ data, reconstruction: r }: { data: MapData; recon
     }
   }
   const rasterKey = rasterRenders.map((x) => `${x.id}:${x.opacity}:${canvasId(x.image)}`).join("|");
-  // eslint-disable-next-line react-hooks/exhaustive-deps
+  // The same arrays for deck.gl until a layer, its opacity or its picture changes.
   const stableRasters = useMemo(() => rasterRenders, [rasterKey]);
 
   const overlays = useMemo(() => new Map(data.overlays.map((o) => [o.datasetId, relativeCollection(o.geojson, origin)])), [data.overlays, origin]);
@@ -151,7 +151,6 @@ export function MapWorkspace({ data, reconstruction: r }: { data: MapData; recon
     }
   }
   const vectorKey = vectorRenders.map((v) => `${v.id}:${v.opacity}:${objectId(v.data)}`).join("|");
-  // eslint-disable-next-line react-hooks/exhaustive-deps
   const stableVectors = useMemo(() => vectorRenders, [vectorKey]);
 
   // The render counter: after every deck.gl frame, for tests and tools that wait on drawing.
