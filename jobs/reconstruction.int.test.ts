@@ -152,6 +152,13 @@ describe("a reconstruction", () => {
     expect(s0.seabedM).toBeCloseTo(seabed.data[cell], 4);
     expect(sec.samples.length).toBeGreaterThan(g.width);
 
+    // Every layer has a display copy, units and all (hillshade's "grey level 1–255" included).
+    for (const l of manifest.layers.filter((x) => x.ageKa === null)) {
+      const d = await callWith(apiLayer.loader, new Request(new URL(`/api/reconstructions/${id}/layers/${l.name}?display=8`, ORIGIN), { headers: { Authorization: `Bearer ${token}` } }), { id: String(id), layer: l.name });
+      expect(d.status, l.name).toBe(200);
+      expect(decodeURIComponent(d.headers.get("X-Lowstand-Units") ?? "")).toBe((l as { units?: string }).units);
+    }
+
     const again = await start(params());
     expect(again.status).toBe(200);
     expect(again.body).toMatchObject({ reused: true, reconstruction: { id } });

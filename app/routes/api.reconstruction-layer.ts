@@ -1,6 +1,7 @@
 // GET /api/reconstructions/:id/layers/:layer?age=<ka> — the layer as a GeoTIFF (project CRS).
 //   &display=8|16 — a quantised copy for the map: raw little-endian codes, row-major, with
-//   X-Lowstand-Width/Height/Scale/Offset/Nodata-Code headers (value = code × scale + offset).
+//   X-Lowstand-Width/Height/Scale/Offset/Nodata-Code headers (value = code × scale + offset) and
+//   X-Lowstand-Units (percent-encoded).
 import { requireReconstructionAccess } from "~/resource-access.server";
 import { findLayer, layerGrid } from "~/layers.server";
 import { store } from "~/storage.server";
@@ -31,7 +32,8 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       "X-Lowstand-Scale": String(q.scale),
       "X-Lowstand-Offset": String(q.offset),
       "X-Lowstand-Nodata-Code": String(q.nodataCode),
-      "X-Lowstand-Units": layer.units,
+      // Units like "grey level 1–255" hold characters a header cannot: sent percent-encoded.
+      "X-Lowstand-Units": encodeURIComponent(layer.units),
       "Cache-Control": "private, max-age=3600",
     },
   });

@@ -53,6 +53,10 @@ test.describe("the map workspace for an analyst", () => {
     expect(await (await page.request.get(page.url())).text()).toContain("483410"); // the server-rendered page carries the map payload
     await expect(page.getByRole("checkbox", { name: "Known sites", exact: true })).toBeChecked();
 
+    // Every layer loaded: the layer list shows no load error (the hillshade base included).
+    await expect(page.getByRole("checkbox", { name: "Hillshade", exact: true })).toBeVisible();
+    await expect(page.locator("[data-layer-error]")).toHaveCount(0);
+
     const canvas = map.locator("canvas").first();
     const at20 = await canvas.screenshot();
 

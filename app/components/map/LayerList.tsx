@@ -81,7 +81,7 @@ export function LayerList({
                     </label>
                   </div>
                 ) : null}
-                {st.error && s.visible ? <p className="mt-1 pl-5 text-xs text-caution-800">{st.error}</p> : null}
+                {st.error && s.visible ? <p data-layer-error={d.id} className="mt-1 pl-5 text-xs text-caution-800">{st.error}</p> : null}
               </div>
             );
           })}
