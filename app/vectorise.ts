@@ -102,44 +102,25 @@ export function traceStreams(direction: ArrayLike<number>, order: ArrayLike<numb
   }
   const out: Array<{ order: number; line: number[] }> = [];
   const visited = new Uint8Array(n);
-  // A chain starts at a head (no upstream stream cell), below a confluence, or where the order changes.
-  const startsChain = (i: number) => {
-    if (upstreamCount[i] !== 1) return true;
-    return false;
+  // Follows one chain downstream from `start` while the order holds and no other stream joins.
+  const chainFrom = (start: number) => {
+    let cur = start;
+    const ord = order[start];
+    const line = [cur % width, Math.floor(cur / width)];
+    visited[cur] = 1;
+    for (;;) {
+      const j = down[cur];
+      if (j < 0) break;
+      line.push(j % width, Math.floor(j / width));
+      if (!isStream(j) || visited[j] || order[j] !== ord || upstreamCount[j] !== 1) break;
+      visited[j] = 1;
+      cur = j;
+    }
+    out.push({ order: ord, line });
   };
-  for (let i = 0; i < n; i++) {
-    if (!isStream(i) || visited[i] || !startsChain(i)) continue;
-    let cur = i;
-    const ord = order[i];
-    const line = [cur % width, Math.floor(cur / width)];
-    visited[cur] = 1;
-    for (;;) {
-      const j = down[cur];
-      if (j < 0) break;
-      line.push(j % width, Math.floor(j / width));
-      if (!isStream(j) || visited[j] || order[j] !== ord || upstreamCount[j] !== 1) break;
-      visited[j] = 1;
-      cur = j;
-    }
-    out.push({ order: ord, line });
-  }
-  // Cells in a cycle-free network are all reached from a chain start; any left (order changes with
-  // one upstream cell) start chains of their own.
-  for (let i = 0; i < n; i++) {
-    if (!isStream(i) || visited[i]) continue;
-    let cur = i;
-    const ord = order[i];
-    const line = [cur % width, Math.floor(cur / width)];
-    visited[cur] = 1;
-    for (;;) {
-      const j = down[cur];
-      if (j < 0) break;
-      line.push(j % width, Math.floor(j / width));
-      if (!isStream(j) || visited[j] || order[j] !== ord || upstreamCount[j] !== 1) break;
-      visited[j] = 1;
-      cur = j;
-    }
-    out.push({ order: ord, line });
-  }
+  // A chain starts at a head (no upstream stream cell) or below a confluence; any cell not reached
+  // from those (where the order changes below a single upstream cell) starts a chain of its own.
+  for (let i = 0; i < n; i++) if (isStream(i) && !visited[i] && upstreamCount[i] !== 1) chainFrom(i);
+  for (let i = 0; i < n; i++) if (isStream(i) && !visited[i]) chainFrom(i);
   return out;
 }

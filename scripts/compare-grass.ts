@@ -21,6 +21,7 @@ import { readGeoTiff } from "../app/terrain/geotiff-read.ts";
 import { writeGeoTiff } from "../app/terrain/geotiff-write.ts";
 import { D8_DCOL, D8_DROW, type Grid, type GridSpec } from "../app/terrain/grid.ts";
 import { resolveCrs } from "../app/terrain/crs.ts";
+import { prng } from "../app/terrain/test-utils";
 
 const [mode, dir, ...rest] = process.argv.slice(2);
 if (!mode || !dir) {
@@ -28,20 +29,11 @@ if (!mode || !dir) {
   process.exit(2);
 }
 
-function mulberry32(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+
 
 /** An invented shelf: a slope to the south, meandering valleys, a few closed hollows, noise. */
 function syntheticSurface(w: number, h: number, dx: number, dy: number, seed: number): Grid<Float32Array> {
-  const rnd = mulberry32(seed);
+  const rnd = prng(seed);
   const spec: GridSpec = { width: w, height: h, originX: 431000, originY: 612000, cellSizeX: dx, cellSizeY: dy, crs: resolveCrs(32631) };
   const data = new Float32Array(w * h);
   const valleys = Array.from({ length: 5 }, () => ({ x0: rnd() * w * dx, amp: 200 + rnd() * 600, wl: 1500 + rnd() * 3000, depth: 4 + rnd() * 8 }));
