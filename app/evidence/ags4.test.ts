@@ -2,19 +2,9 @@ import { describe, expect, it } from "vitest";
 import { readAgs4Groups } from "./ags4";
 import { parseEvidence } from "./index";
 import { EvidenceError, type ParseOptions } from "./types";
-import { PROJECT_EPSG, evidenceFixture, utf8 } from "./test-support";
+import { PROJECT_EPSG, evidenceFixture, utf8, refusal } from "./test-support";
 
 const base = (o: Partial<ParseOptions> = {}): ParseOptions => ({ fileName: "cores.ags", projectEpsg: PROJECT_EPSG, declaredEpsg: PROJECT_EPSG, ...o });
-
-async function refusal(p: Promise<unknown>): Promise<EvidenceError> {
-  try {
-    await p;
-  } catch (e) {
-    if (e instanceof EvidenceError) return e;
-    throw e;
-  }
-  throw new Error("expected an EvidenceError, but the upload was accepted");
-}
 
 describe("AGS4 cores and boreholes (LOCA positions, GEOL units)", () => {
   it("splits the file into groups with their headings and data rows", () => {

@@ -1,20 +1,10 @@
 import { describe, expect, it } from "vitest";
 import { parseEvidence } from "./index";
 import { EvidenceError, type ParseOptions, type VerticalDeclaration } from "./types";
-import { ORIGIN_X, ORIGIN_Y, PROJECT_EPSG, bareTiff, evidenceFixture, gridSpec, prng, terrainFixture, tiff, utf8 } from "./test-support";
+import { ORIGIN_X, ORIGIN_Y, PROJECT_EPSG, bareTiff, evidenceFixture, gridSpec, prng, terrainFixture, tiff, utf8, refusal } from "./test-support";
 
 const LAT: VerticalDeclaration = { sign: "depth_positive_down", datum: "LAT", offsetToMslM: -2.5 };
 const opts = (o: Partial<ParseOptions> = {}): ParseOptions => ({ fileName: "bathy.tif", projectEpsg: PROJECT_EPSG, vertical: LAT, ...o });
-
-async function refusal(p: Promise<unknown>): Promise<EvidenceError> {
-  try {
-    await p;
-  } catch (e) {
-    if (e instanceof EvidenceError) return e;
-    throw e;
-  }
-  throw new Error("expected an EvidenceError, but the upload was accepted");
-}
 
 describe("bathymetry from GeoTIFF", () => {
   it("turns depths below LAT into elevations relative to MSL: elevation = −depth + offset (formula)", async () => {

@@ -2,19 +2,9 @@ import { unzipSync, zipSync } from "fflate";
 import { describe, expect, it } from "vitest";
 import { parseEvidence } from "./index";
 import { EvidenceError, type ParseOptions } from "./types";
-import { PROJECT_EPSG, evidenceFixture } from "./test-support";
+import { PROJECT_EPSG, evidenceFixture, refusal } from "./test-support";
 
 const base = (o: Partial<ParseOptions> = {}): ParseOptions => ({ fileName: "t.zip", projectEpsg: PROJECT_EPSG, ...o });
-
-async function refusal(p: Promise<unknown>): Promise<EvidenceError> {
-  try {
-    await p;
-  } catch (e) {
-    if (e instanceof EvidenceError) return e;
-    throw e;
-  }
-  throw new Error("expected an EvidenceError, but the upload was accepted");
-}
 
 /** The members of GDAL's turbines Shapefile, to change one at a time. */
 const members = () => unzipSync(evidenceFixture("turbines-shp.zip"));

@@ -3,19 +3,9 @@ import { describe, expect, it } from "vitest";
 import { resolveCrs } from "../terrain/crs";
 import { parseEvidence } from "./index";
 import { EvidenceError, type ParseOptions } from "./types";
-import { PROJECT_EPSG, utf8 } from "./test-support";
+import { PROJECT_EPSG, utf8, refusal } from "./test-support";
 
 const base = (o: Partial<ParseOptions> = {}): ParseOptions => ({ fileName: "t.csv", projectEpsg: PROJECT_EPSG, ...o });
-
-async function refusal(p: Promise<unknown>): Promise<EvidenceError> {
-  try {
-    await p;
-  } catch (e) {
-    if (e instanceof EvidenceError) return e;
-    throw e;
-  }
-  throw new Error("expected an EvidenceError, but the upload was accepted");
-}
 
 describe("known sites CSV (all names invented)", () => {
   const csv = [

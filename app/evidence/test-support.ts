@@ -2,6 +2,7 @@
  * Helpers for the evidence tests only: fixture paths, hand-made TIFF headers, GeoTIFFs written by the
  * terrain engine's writer, and a seeded PRNG. Not used by the readers.
  */
+import { EvidenceError } from "./types";
 import { readFileSync } from "node:fs";
 import path from "node:path";
 import { resolveCrs } from "../terrain/crs";
@@ -69,4 +70,15 @@ export function bareTiff(tags: Record<number, number>, big = false): Uint8Array 
     o += entryLen;
   }
   return buf;
+}
+
+/** Awaits an upload that must be refused, and returns its EvidenceError (anything else fails the test). */
+export async function refusal(p: Promise<unknown>): Promise<EvidenceError> {
+  try {
+    await p;
+  } catch (e) {
+    if (e instanceof EvidenceError) return e;
+    throw e;
+  }
+  throw new Error("expected an EvidenceError, but the upload was accepted");
 }

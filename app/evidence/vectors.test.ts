@@ -1,19 +1,9 @@
 import { describe, expect, it } from "vitest";
 import { parseEvidence } from "./index";
 import { EvidenceError, type ParseOptions } from "./types";
-import { PROJECT_EPSG, evidenceFixture, utf8 } from "./test-support";
+import { PROJECT_EPSG, evidenceFixture, utf8, refusal } from "./test-support";
 
 const base = (o: Partial<ParseOptions> = {}): ParseOptions => ({ fileName: "v.geojson", projectEpsg: PROJECT_EPSG, ...o });
-
-async function refusal(p: Promise<unknown>): Promise<EvidenceError> {
-  try {
-    await p;
-  } catch (e) {
-    if (e instanceof EvidenceError) return e;
-    throw e;
-  }
-  throw new Error("expected an EvidenceError, but the upload was accepted");
-}
 
 const fc = (features: unknown[], extra: Record<string, unknown> = {}) => utf8(JSON.stringify({ type: "FeatureCollection", ...extra, features }));
 const feature = (geometry: unknown, properties: Record<string, unknown> = {}) => ({ type: "Feature", geometry, properties });
