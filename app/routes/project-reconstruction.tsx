@@ -2,7 +2,7 @@
 // previews, units, provenance and GeoTIFF downloads.
 import { useQuery } from "@tanstack/react-query";
 import { useState } from "react";
-import { Form, useActionData, useRevalidator } from "react-router";
+import { Form, Link, useActionData, useRevalidator } from "react-router";
 import { requireProjectAccess } from "~/permissions.server";
 import { getReconstruction } from "~/reconstructions.server";
 import { reconstructionView } from "~/reconstruction-view.server";
@@ -102,6 +102,13 @@ export default function ProjectReconstruction({ loaderData }: Route.ComponentPro
       ) : null}
       {r.status === "cancelled" ? <p className="text-sm text-sediment-600">Cancelled. Start it again from the Reconstructions page with the same inputs.</p> : null}
 
+      {manifest ? (
+        <p>
+          <Link to={`/projects/${r.projectId}/map?reconstruction=${r.id}`} className="rounded-sm bg-deep-800 px-3 py-1.5 text-sm text-sand-50 hover:bg-deep-700">
+            Open on the map
+          </Link>
+        </p>
+      ) : null}
       {manifest ? <Layers id={r.id} manifest={manifest} /> : null}
       <Provenance r={r} manifest={manifest} />
     </div>

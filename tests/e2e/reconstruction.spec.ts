@@ -38,6 +38,8 @@ test.describe("reconstructions", () => {
     await page.goto(first);
     await expect(page.getByTestId("reconstruction")).toHaveAttribute("data-status", "published", { timeout: 120_000 });
     await expect(page.getByRole("link", { name: "GeoTIFF" }).first()).toBeVisible();
+    // Any published reconstruction opens on the map, not only the newest.
+    await expect(page.getByRole("link", { name: "Open on the map" })).toHaveAttribute("href", /\/map\?reconstruction=\d+$/);
 
     // The job-ended e-mail reached the local catcher, with a link to the run.
     await expect(async () => {
