@@ -7,3 +7,8 @@ export function formatBytes(n: number): string {
   if (n >= 1024) return `${(n / 1024).toFixed(1)} kB`;
   return `${n} bytes`;
 }
+
+/** An ISO time as people read it in tables, in UTC: "2026-12-02 04:13" (with `seconds`, ":27" too). */
+export function formatUtc(iso: string, seconds = false): string {
+  return iso.replace("T", " ").slice(0, seconds ? 19 : 16);
+}

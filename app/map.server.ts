@@ -4,7 +4,7 @@
 import { and, desc, eq, inArray } from "drizzle-orm";
 import { db } from "./db.server";
 import { datasets, reconstructions, seaLevelCurves } from "./db/schema";
-import { ObjectNotFound, store } from "./storage.server";
+import { getJson, ObjectNotFound, store } from "./storage.server";
 import { resolveCrs } from "./terrain/crs";
 import { defaultGlobalCurve, sigmaAt, type SeaLevelCurve } from "./terrain/sea-level";
 import type { Manifest } from "./terrain/reconstruct";
@@ -14,7 +14,7 @@ import { sitesFor } from "./sites.server";
 import { traceBoundaries, traceStreams } from "./vectorise";
 import { apiError } from "./security.server";
 import type { Role } from "./permissions";
-import { pointsOf } from "./sea-level-curves.server";
+import { curveFromRow, pointsOf } from "./sea-level-curves.server";
 
 const OVERLAY_KINDS = ["survey_area", "lease_blocks", "ocean_boundary", "survey_lines", "interpretations", "exclusions", "development_footprint", "cores"] as const;
 
@@ -23,24 +23,12 @@ type Feature = { type: "Feature"; geometry: { type: string; coordinates: unknown
 async function curveOf(projectId: number, curveId: unknown): Promise<SeaLevelCurve> {
   if (typeof curveId === "number") {
     const [c] = await db().select().from(seaLevelCurves).where(and(eq(seaLevelCurves.id, curveId), eq(seaLevelCurves.projectId, projectId)));
-    if (c) {
-      return {
-        name: c.name,
-        label: `project curve: ${c.name}`,
-        citation: c.source,
-        ageKa: Float64Array.from(c.points.map((p) => p.ageKa)),
-        levelM: Float64Array.from(c.points.map((p) => p.rslM)),
-        sigmaM: Float64Array.from(c.points.map((p) => (p.sigmaM === null ? NaN : p.sigmaM))),
-        warnings: [],
-      };
-    }
+    if (c) return curveFromRow(c);
   }
   return defaultGlobalCurve();
 }
 
-async function derivedJson(key: string) {
-  return JSON.parse(new TextDecoder().decode(await store().getBytes(key))) as { type?: string; features?: Feature[]; rows?: Record<string, unknown>[] };
-}
+const derivedJson = (key: string) => getJson<{ type?: string; features?: Feature[]; rows?: Record<string, unknown>[] }>(key);
 
 export async function mapPayload(project: { id: number; name: string; crsEpsg: number; siteGeneralisationM: number; siteMinCount: number }, viewer: { userId: number; role: Role }, reconstructionParam: string | null) {
   const where = reconstructionParam && /^\d{1,9}$/.test(reconstructionParam)

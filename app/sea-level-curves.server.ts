@@ -4,7 +4,7 @@ import { db } from "./db.server";
 import { datasets, seaLevelCurves } from "./db/schema";
 import { UserError } from "./errors";
 import { recordAudit } from "./audit.server";
-import { store } from "./storage.server";
+import { getJson } from "./storage.server";
 import { defaultGlobalCurve, parseSeaLevelCsv, type SeaLevelCurve } from "./terrain/sea-level";
 import { TerrainInputError } from "./terrain/grid";
 
@@ -12,6 +12,19 @@ export type CurvePoint = { ageKa: number; rslM: number; sigmaM: number | null };
 
 export function pointsOf(curve: SeaLevelCurve): CurvePoint[] {
   return Array.from(curve.ageKa, (a, i) => ({ ageKa: a, rslM: curve.levelM[i], sigmaM: Number.isFinite(curve.sigmaM[i]) ? curve.sigmaM[i] : null }));
+}
+
+/** A project curve's row as the engine's curve (σ missing → NaN, as parseSeaLevelCsv gives it). */
+export function curveFromRow(c: { name: string; source: string; points: CurvePoint[] }): SeaLevelCurve {
+  return {
+    name: c.name,
+    label: `project curve: ${c.name}`,
+    citation: c.source,
+    ageKa: Float64Array.from(c.points, (p) => p.ageKa),
+    levelM: Float64Array.from(c.points, (p) => p.rslM),
+    sigmaM: Float64Array.from(c.points, (p) => (p.sigmaM === null || p.sigmaM === undefined ? NaN : p.sigmaM)),
+    warnings: [],
+  };
 }
 
 export function curveCsv(points: CurvePoint[]): string {
@@ -35,7 +48,7 @@ export async function listCurves(projectId: number) {
 
 export async function createCurve(projectId: number, userId: number, name: string, source: string, points: CurvePoint[], meta: { clientAddress?: string } = {}) {
   return db().transaction(async (tx) => {
-    const [c] = await tx.insert(seaLevelCurves).values({ projectId, name, source, points: points as never, createdBy: userId }).returning();
+    const [c] = await tx.insert(seaLevelCurves).values({ projectId, name, source, points, createdBy: userId }).returning();
     await recordAudit(tx, { actorUserId: userId, projectId, action: "sea_level_curve.created", detail: { curveId: c.id, name, source, points: points.length }, clientAddress: meta.clientAddress });
     return c;
   });
@@ -45,7 +58,7 @@ export async function updateCurve(projectId: number, userId: number, curveId: nu
   await db().transaction(async (tx) => {
     const rows = await tx
       .update(seaLevelCurves)
-      .set({ points: points as never, updatedAt: new Date() })
+      .set({ points, updatedAt: new Date() })
       .where(and(eq(seaLevelCurves.id, curveId), eq(seaLevelCurves.projectId, projectId)))
       .returning({ id: seaLevelCurves.id });
     if (!rows.length) throw new UserError(404, "no_such_curve", "That curve is not one of this project's.");
@@ -63,7 +76,7 @@ export async function indexPoints(projectId: number) {
   const rows = await db().select({ key: datasets.derivedKey, name: datasets.name }).from(datasets).where(and(eq(datasets.projectId, projectId), eq(datasets.kind, "sea_level_index_points")));
   const out: Array<{ dataset: string; ageKa: number; ageSigmaKa: number; heightM: number; heightSigmaM: number; kind: string | null }> = [];
   for (const r of rows) {
-    const json = JSON.parse(new TextDecoder().decode(await store().getBytes(r.key))) as { rows?: Array<Record<string, unknown>> };
+    const json = await getJson<{ rows?: Array<Record<string, unknown>> }>(r.key);
     for (const p of json.rows ?? []) {
       if (p.heightM === null || p.ageKa === null) continue;
       out.push({ dataset: r.name, ageKa: Number(p.ageKa), ageSigmaKa: Number(p.ageSigmaKa ?? 0), heightM: Number(p.heightM), heightSigmaM: Number(p.heightSigmaM ?? 0), kind: (p.kind as string) ?? null });

@@ -231,6 +231,11 @@ export function store(): ObjectStore {
   return g.lowstandStore;
 }
 
+/** Reads a stored JSON object (the normalised form of vector and table datasets). */
+export async function getJson<T>(key: string): Promise<T> {
+  return JSON.parse(new TextDecoder().decode(await store().getBytes(key))) as T;
+}
+
 /** Reads a whole Node stream into one buffer. */
 export async function readAll(stream: Readable): Promise<Buffer> {
   const chunks: Buffer[] = [];

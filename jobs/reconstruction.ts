@@ -5,7 +5,7 @@
 import { eq } from "drizzle-orm";
 import { db } from "../app/db.server";
 import { datasets, reconstructions, seaLevelCurves } from "../app/db/schema";
-import { store } from "../app/storage.server";
+import { getJson, store } from "../app/storage.server";
 import { readGeoTiff } from "../app/terrain/geotiff-read";
 import { writeGeoTiff } from "../app/terrain/geotiff-write";
 import { nodeDeflate } from "../app/terrain/geotiff-deflate-node";
@@ -14,6 +14,7 @@ import { reconstruct, inlineAgeRunner, type LayerOut, type ReconstructInput } fr
 import { workerAgeRunner } from "../app/terrain/reconstruct-worker";
 import { defaultGlobalCurve, type SeaLevelCurve } from "../app/terrain/sea-level";
 import type { SurveyLine } from "../app/terrain/survey-lines";
+import { curveFromRow } from "../app/sea-level-curves.server";
 import { attemptPrefix, layerFileName, markReconstructionEnded, publishManifest, reconstructionParams } from "../app/reconstructions.server";
 import { defineJob, isUserError, JobUserError } from "./wrapper";
 
@@ -24,7 +25,7 @@ export interface ReconstructionPayload {
 async function datasetJson<T>(id: number): Promise<T> {
   const [d] = await db().select({ key: datasets.derivedKey }).from(datasets).where(eq(datasets.id, id));
   if (!d) throw new JobUserError(`dataset ${id} no longer exists: it was deleted after the reconstruction was asked for`);
-  return JSON.parse(new TextDecoder().decode(await store().getBytes(d.key))) as T;
+  return getJson<T>(d.key);
 }
 
 async function loadInput(rec: typeof reconstructions.$inferSelect): Promise<Omit<ReconstructInput, "agesKa"> & { agesKa: number[] }> {
@@ -37,15 +38,7 @@ async function loadInput(rec: typeof reconstructions.$inferSelect): Promise<Omit
   if (p.curveId !== null) {
     const [c] = await db().select().from(seaLevelCurves).where(eq(seaLevelCurves.id, p.curveId));
     if (!c) throw new JobUserError("the project sea-level curve was deleted after the reconstruction was asked for");
-    curve = {
-      name: c.name,
-      label: `project curve: ${c.name}`,
-      citation: c.source,
-      ageKa: Float64Array.from(c.points.map((q) => q.ageKa)),
-      levelM: Float64Array.from(c.points.map((q) => q.rslM)),
-      sigmaM: Float64Array.from(c.points.map((q) => q.sigmaM)),
-      warnings: [],
-    };
+    curve = curveFromRow(c);
   }
 
   let surveyLines: SurveyLine[] | undefined;

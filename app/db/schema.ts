@@ -336,8 +336,8 @@ export const seaLevelCurves = pgTable("sea_level_curves", {
   name: text("name").notNull(),
   /** Where it came from: "copy of the shipped global curve", "imported CSV", … */
   source: text("source").notNull().default(""),
-  /** [{ ageKa, rslM, sigmaM }], ages strictly increasing. */
-  points: jsonb("points").$type<Array<{ ageKa: number; rslM: number; sigmaM: number }>>().notNull(),
+  /** [{ ageKa, rslM, sigmaM }] (σ null where none is given), ages strictly increasing. */
+  points: jsonb("points").$type<Array<{ ageKa: number; rslM: number; sigmaM: number | null }>>().notNull(),
   createdBy: integer("created_by").references(() => users.id, { onDelete: "set null" }),
   createdAt: createdAt(),
   updatedAt: timestamp("updated_at", { withTimezone: true }).notNull().defaultNow(),

@@ -1,4 +1,5 @@
 // Your account: name, job e-mails, personal API tokens.
+import { formatUtc } from "~/format";
 import { Form, useActionData } from "react-router";
 import { z } from "zod";
 import { requireIdentity } from "~/auth.server";
@@ -7,7 +8,7 @@ import { UserError } from "~/errors";
 import { formAction, parseForm } from "~/route-helpers.server";
 import { personName, tokenName } from "~/validation";
 import { TopBar } from "~/components/TopBar";
-import { Field, FormProblemNote, PrimaryButton, QuietButton } from "~/components/forms/Field";
+import { Field, FormProblemNote, IntentButton, PrimaryButton } from "~/components/forms/Field";
 import type { Route } from "./+types/account";
 
 export const meta = () => [{ title: "Your account · Lowstand" }];
@@ -82,14 +83,12 @@ export default function Account({ loaderData }: Route.ComponentProps) {
                 <span>
                   <strong>{t.name}</strong> <code className="text-xs">{t.prefix}…</code>{" "}
                   <span className="text-xs text-sediment-600">
-                    created {t.createdAt.slice(0, 10)} · {t.lastUsedAt ? `last used ${t.lastUsedAt.replace("T", " ").slice(0, 16)}` : "never used"}
+                    created {t.createdAt.slice(0, 10)} · {t.lastUsedAt ? `last used ${formatUtc(t.lastUsedAt)}` : "never used"}
                   </span>
                 </span>
-                <Form method="post">
-                  <input type="hidden" name="intent" value="revoke-token" />
-                  <input type="hidden" name="tokenId" value={t.id} />
-                  <QuietButton type="submit">Revoke</QuietButton>
-                </Form>
+                <IntentButton intent="revoke-token" fields={{ tokenId: t.id }}>
+                  Revoke
+                </IntentButton>
               </li>
             ))}
           </ul>

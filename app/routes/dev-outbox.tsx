@@ -1,4 +1,5 @@
 // The developers' outbox: what the local SMTP catcher received. Development only: 404 in production.
+import { formatUtc } from "~/format";
 import { desc } from "drizzle-orm";
 import { db } from "~/db.server";
 import { caughtMail } from "~/db/schema";
@@ -30,7 +31,7 @@ export default function DevOutbox({ loaderData }: Route.ComponentProps) {
         {loaderData.messages.map((m) => (
           <li key={m.id} className="rounded-md border border-sand-200 bg-white p-3">
             <p className="text-xs text-sediment-600 tabular-nums">
-              {m.at.replace("T", " ").slice(0, 19)} → {m.to.join(", ")}
+              {formatUtc(m.at, true)} → {m.to.join(", ")}
             </p>
             <p className="font-medium">{m.subject}</p>
             <pre className="mt-2 whitespace-pre-wrap font-sans text-sm">{m.text}</pre>

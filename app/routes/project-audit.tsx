@@ -1,4 +1,5 @@
 import { requireProjectAccess } from "~/permissions.server";
+import { formatUtc } from "~/format";
 import { listAudit } from "~/projects.server";
 import type { Route } from "./+types/project-audit";
 
@@ -30,7 +31,7 @@ export default function ProjectAudit({ loaderData }: Route.ComponentProps) {
           <tbody>
             {loaderData.entries.map((e) => (
               <tr key={e.id} className="border-b border-sand-100 align-top">
-                <td className="py-1 pr-4 tabular-nums whitespace-nowrap">{e.at.replace("T", " ").slice(0, 19)}</td>
+                <td className="py-1 pr-4 tabular-nums whitespace-nowrap">{formatUtc(e.at, true)}</td>
                 <td className="py-1 pr-4">{e.actorName ?? "—"}</td>
                 <td className="py-1 pr-4 font-medium">{e.action}</td>
                 <td className="py-1 text-xs text-sediment-600">{JSON.stringify(e.detail)}</td>

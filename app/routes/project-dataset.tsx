@@ -5,7 +5,7 @@ import { datasetView, deleteDataset, getDataset } from "~/datasets.server";
 import { formAction } from "~/route-helpers.server";
 import { UserError } from "~/errors";
 import { can } from "~/permissions";
-import { formatBytes } from "~/format";
+import { formatBytes, formatUtc } from "~/format";
 import { refusal } from "~/security.server";
 import { Histogram } from "~/components/charts/Histogram";
 import { DangerButton, FormProblemNote } from "~/components/forms/Field";
@@ -75,7 +75,7 @@ export default function ProjectDataset({ loaderData }: Route.ComponentProps) {
         <dt className="text-sediment-600">Provenance</dt>
         <dd>
           {d.originalName ? `“${d.originalName}”, ` : ""}
-          {formatBytes(d.sizeBytes)}, uploaded {d.createdAt.slice(0, 16).replace("T", " ")} UTC by {d.uploadedBy ?? "—"}
+          {formatBytes(d.sizeBytes)}, uploaded {formatUtc(d.createdAt)} UTC by {d.uploadedBy ?? "—"}
           <br />
           <span className="font-mono text-xs">SHA-256 {d.sha256}</span>
         </dd>

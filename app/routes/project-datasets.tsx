@@ -5,7 +5,7 @@ import { requireProjectAccess } from "~/permissions.server";
 import { ingestUpload, listDatasets } from "~/datasets.server";
 import { KIND_LABELS, KINDS_WITH_HEIGHTS } from "~/evidence-kinds";
 import { receiveUpload, uploadMaxBytes } from "~/uploads.server";
-import { formatBytes } from "~/format";
+import { formatBytes, formatUtc } from "~/format";
 import { formAction } from "~/route-helpers.server";
 import { can } from "~/permissions";
 import { EVIDENCE_KINDS, type EvidenceKind } from "~/evidence/types";
@@ -205,7 +205,7 @@ export default function ProjectDatasets({ loaderData }: Route.ComponentProps) {
                   </td>
                   <td className="py-1.5 pr-4 tabular-nums">{formatBytes(d.sizeBytes)}</td>
                   <td className="py-1.5 pr-4 text-xs">
-                    {d.createdAt.slice(0, 16).replace("T", " ")} · {d.uploadedBy ?? "—"}
+                    {formatUtc(d.createdAt)} · {d.uploadedBy ?? "—"}
                   </td>
                 </tr>
               ))}

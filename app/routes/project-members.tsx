@@ -10,7 +10,7 @@ import { formAction, parseForm } from "~/route-helpers.server";
 import { UserError } from "~/errors";
 import { communityName, invitationFields, role as roleRule } from "~/validation";
 import { can, mayAssignRole, ROLE_DUTIES, ROLE_LABELS, ROLES, type Role } from "~/permissions";
-import { Field, FormProblemNote, PrimaryButton, QuietButton, DangerButton } from "~/components/forms/Field";
+import { Field, FormProblemNote, IntentButton, PrimaryButton, QuietButton } from "~/components/forms/Field";
 import type { Route } from "./+types/project-members";
 
 export const meta = () => [{ title: "Members · Lowstand" }];
@@ -148,13 +148,9 @@ export default function ProjectMembers({ loaderData }: Route.ComponentProps) {
                         </select>
                         <QuietButton type="submit">Set</QuietButton>
                       </Form>
-                      <Form method="post">
-                        <input type="hidden" name="intent" value="remove" />
-                        <input type="hidden" name="userId" value={m.userId} />
-                        <DangerButton type="submit" aria-label={`Remove ${m.name}`}>
-                          Remove
-                        </DangerButton>
-                      </Form>
+                      <IntentButton intent="remove" fields={{ userId: m.userId }} danger label={`Remove ${m.name}`}>
+                        Remove
+                      </IntentButton>
                     </div>
                   ) : (
                     <span className="text-xs text-sediment-600">an owner manages this member</span>
@@ -198,11 +194,9 @@ export default function ProjectMembers({ loaderData }: Route.ComponentProps) {
                     <span>
                       {i.email} · {ROLE_LABELS[i.role as Role].toLowerCase()} · until {i.expiresAt.slice(0, 10)}
                     </span>
-                    <Form method="post">
-                      <input type="hidden" name="intent" value="revoke-invitation" />
-                      <input type="hidden" name="invitationId" value={i.id} />
-                      <QuietButton type="submit">Withdraw</QuietButton>
-                    </Form>
+                    <IntentButton intent="revoke-invitation" fields={{ invitationId: i.id }}>
+                      Withdraw
+                    </IntentButton>
                   </li>
                 ))}
               </ul>

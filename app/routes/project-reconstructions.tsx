@@ -1,4 +1,5 @@
 // Reconstructions of the project: the list, and the form that starts one.
+import { formatUtc } from "~/format";
 import { Form, Link, redirect, useActionData, useNavigation } from "react-router";
 import { asc, eq } from "drizzle-orm";
 import { requireProjectAccess } from "~/permissions.server";
@@ -96,7 +97,7 @@ export default function ProjectReconstructions({ loaderData }: Route.ComponentPr
                 <td className="py-1.5 pr-4">
                   <StatusBadge status={r.status} progress={r.progress} />
                 </td>
-                <td className="py-1.5 text-xs tabular-nums">{r.createdAt.slice(0, 16).replace("T", " ")}</td>
+                <td className="py-1.5 text-xs tabular-nums">{formatUtc(r.createdAt)}</td>
               </tr>
             ))}
           </tbody>

@@ -1,5 +1,6 @@
 // Sea-level curves: the shipped published curve (read-only, with its citation and the far-field
 // label), the project's own curves (copies, edited tables, imported CSV), and index points.
+import { formatUtc } from "~/format";
 import { useState } from "react";
 import { Form, useActionData } from "react-router";
 import { z } from "zod";
@@ -124,7 +125,7 @@ export default function ProjectSeaLevel({ loaderData }: Route.ComponentProps) {
         {current ? (
           <div>
             <p className="text-xs text-sediment-600">
-              {current.source} · {current.points.length} rows · saved {current.updatedAt.slice(0, 16).replace("T", " ")}
+              {current.source} · {current.points.length} rows · saved {formatUtc(current.updatedAt)}
             </p>
             {mayEdit ? (
               <Form method="post" className="mt-2 space-y-2" key={current.id}>

@@ -110,8 +110,8 @@ export function periodAgeWeights(agesKa: readonly number[], window: PeriodWindow
  * positive weight is NaN. Because every layer has nodata wherever the analysis surface does
  * (docs/layers.md), NaN on a valid cell means sea or lake, not a missing factor.
  *
- * Complexity: O(n·m') for n cells and the m' ages with positive weight; one Float64 accumulator and
- * one Float64 (rule "skip") or Uint8 (rule "zero") array of n beside the output.
+ * Complexity: O(n·m') for n cells and the m' ages with positive weight; two Float64 arrays of n
+ * beside the output.
  */
 export function combinePeriod(
   perAge: readonly Float32Array[],
@@ -131,38 +131,24 @@ export function combinePeriod(
       throw new ScoringInputError(`The layer for ${agesKa[k]} ka has ${perAge[k].length} cells; the first has ${n}.`);
   if (out !== undefined && out.length !== n)
     throw new ScoringInputError(`The output array has ${out.length} cells; the layers have ${n}.`);
+  // One pass gathers Σ w·s and Σ w over the ages with a score; the rules differ only at the end.
   const sum = new Float64Array(n);
-  const res = out ?? new Float32Array(n);
-  if (rule === "zero") {
-    const seen = new Uint8Array(n);
-    for (let k = 0; k < perAge.length; k++) {
-      const w = weights[k];
-      if (w === 0) continue;
-      const s = perAge[k];
-      for (let i = 0; i < n; i++) {
-        const v = s[i];
-        if (v === v) {
-          sum[i] += w * v;
-          seen[i] = 1;
-        }
+  const wsum = new Float64Array(n);
+  for (let k = 0; k < perAge.length; k++) {
+    const w = weights[k];
+    if (w === 0) continue;
+    const s = perAge[k];
+    for (let i = 0; i < n; i++) {
+      const v = s[i];
+      if (v === v) {
+        sum[i] += w * v;
+        wsum[i] += w;
       }
     }
-    for (let i = 0; i < n; i++) res[i] = seen[i] === 1 ? sum[i] : NaN; // Σw = 1
-  } else {
-    const wsum = new Float64Array(n);
-    for (let k = 0; k < perAge.length; k++) {
-      const w = weights[k];
-      if (w === 0) continue;
-      const s = perAge[k];
-      for (let i = 0; i < n; i++) {
-        const v = s[i];
-        if (v === v) {
-          sum[i] += w * v;
-          wsum[i] += w;
-        }
-      }
-    }
-    for (let i = 0; i < n; i++) res[i] = wsum[i] > 0 ? sum[i] / wsum[i] : NaN;
   }
+  const res = out ?? new Float32Array(n);
+  // "zero": unscored ages add 0 and the weights already sum to 1; "skip": divide by the scored weight.
+  if (rule === "zero") for (let i = 0; i < n; i++) res[i] = wsum[i] > 0 ? sum[i] : NaN;
+  else for (let i = 0; i < n; i++) res[i] = wsum[i] > 0 ? sum[i] / wsum[i] : NaN;
   return res;
 }

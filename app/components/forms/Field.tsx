@@ -1,4 +1,5 @@
 import type { InputHTMLAttributes, ReactNode } from "react";
+import { Form } from "react-router";
 
 /** A labelled input with its problem (if any) announced beside it. */
 export function Field({
@@ -114,5 +115,33 @@ export function ChoiceField({
       </select>
       {hint ? <span className="text-xs text-sediment-600">{hint}</span> : null}
     </label>
+  );
+}
+
+/** A one-button form that posts an `intent` (and a few hidden ids) to the page's own action. */
+export function IntentButton({
+  intent,
+  fields = {},
+  danger = false,
+  label,
+  children,
+}: {
+  intent: string;
+  fields?: Record<string, string | number>;
+  danger?: boolean;
+  label?: string;
+  children: ReactNode;
+}) {
+  const Button = danger ? DangerButton : QuietButton;
+  return (
+    <Form method="post">
+      <input type="hidden" name="intent" value={intent} />
+      {Object.entries(fields).map(([k, v]) => (
+        <input key={k} type="hidden" name={k} value={v} />
+      ))}
+      <Button type="submit" aria-label={label}>
+        {children}
+      </Button>
+    </Form>
   );
 }
