@@ -25,6 +25,9 @@ const CAPABILITY_WORDS: Record<Capability, string> = {
   "sites.readExact": "see exact site positions",
   "sites.export": "export site locations",
   "reviews.sign": "sign reviews",
+  "weights.edit": "edit weight sets",
+  "weights.adopt": "adopt a weight set for the project",
+  "models.read": "see trained-model results",
 };
 
 /**

@@ -32,7 +32,10 @@ export type Capability =
   | "runs.start"
   | "sites.readExact"
   | "sites.export"
-  | "reviews.sign";
+  | "reviews.sign"
+  | "weights.edit"
+  | "weights.adopt"
+  | "models.read";
 
 const GRANTS: Record<Capability, readonly Role[]> = {
   "project.read": ROLES,
@@ -46,6 +49,12 @@ const GRANTS: Record<Capability, readonly Role[]> = {
   "sites.readExact": ["owner", "lead", "analyst", "reviewer"],
   "sites.export": ["owner", "lead"],
   "reviews.sign": ["owner", "reviewer"],
+  /** create, edit, fork, restore and delete weight sets (design §9: analysts edit weight sets) */
+  "weights.edit": ["owner", "lead", "analyst"],
+  /** choose the project's adopted weight-set version */
+  "weights.adopt": ["owner", "lead"],
+  /** trained-model rasters peak on exact site positions: never below analyst (design §9) */
+  "models.read": ["owner", "lead", "analyst", "reviewer"],
 };
 
 export function can(role: Role | null | undefined, capability: Capability): boolean {

@@ -342,3 +342,87 @@ export const seaLevelCurves = pgTable("sea_level_curves", {
   createdAt: createdAt(),
   updatedAt: timestamp("updated_at", { withTimezone: true }).notNull().defaultNow(),
 });
+
+/**
+ * A project's weight set (design §4): a name and a line of versions. The content lives in the
+ * versions; every save adds one, so history, restore and comparison read them.
+ */
+export const weightSets = pgTable(
+  "weight_sets",
+  {
+    id: serial("id").primaryKey(),
+    projectId: integer("project_id").notNull().references(() => projects.id, { onDelete: "cascade" }),
+    name: text("name").notNull(),
+    description: text("description").notNull().default(""),
+    /** The newest version number; a PATCH must carry it (a stale save is refused with 409). */
+    currentVersion: integer("current_version").notNull().default(1),
+    /** The version this set was forked from, if any. */
+    forkedFromVersionId: integer("forked_from_version_id"),
+    createdBy: integer("created_by").references(() => users.id, { onDelete: "set null" }),
+    createdAt: createdAt(),
+    updatedAt: timestamp("updated_at", { withTimezone: true }).notNull().defaultNow(),
+  },
+  (t) => [index("weight_sets_project_idx").on(t.projectId)],
+);
+
+/** One saved state of a weight set: its content (app/scoring/weight-set.ts), who, when and why. */
+export const weightSetVersions = pgTable(
+  "weight_set_versions",
+  {
+    id: serial("id").primaryKey(),
+    weightSetId: integer("weight_set_id").notNull().references(() => weightSets.id, { onDelete: "cascade" }),
+    version: integer("version").notNull(),
+    content: jsonb("content").$type<Record<string, unknown>>().notNull(),
+    /** SHA-256 of the canonical JSON of the content (what scorings and reviews refer to). */
+    contentHash: text("content_hash").notNull(),
+    /** Why this version was saved (or "restored from version n"). */
+    note: text("note").notNull().default(""),
+    createdBy: integer("created_by").references(() => users.id, { onDelete: "set null" }),
+    createdAt: createdAt(),
+  },
+  (t) => [uniqueIndex("weight_set_versions_key").on(t.weightSetId, t.version)],
+);
+
+/** Each time a lead adopts a weight-set version for the project; the newest row is the adopted one. */
+export const weightSetAdoptions = pgTable(
+  "weight_set_adoptions",
+  {
+    id: serial("id").primaryKey(),
+    projectId: integer("project_id").notNull().references(() => projects.id, { onDelete: "cascade" }),
+    versionId: integer("version_id").notNull().references(() => weightSetVersions.id, { onDelete: "no action" }),
+    rationale: text("rationale").notNull().default(""),
+    adoptedBy: integer("adopted_by").references(() => users.id, { onDelete: "set null" }),
+    adoptedAt: timestamp("adopted_at", { withTimezone: true }).notNull().defaultNow(),
+  },
+  (t) => [index("weight_set_adoptions_project_idx").on(t.projectId, t.adoptedAt)],
+);
+
+export const scoringStatus = pgEnum("scoring_status", ["running", "published", "failed", "cancelled"]);
+
+/**
+ * A scoring (design §4): a weight-set version applied to a reconstruction at full resolution, for
+ * one age or one period of the version, by the scoring job. Identical inputs map to one row.
+ */
+export const scorings = pgTable(
+  "scorings",
+  {
+    id: serial("id").primaryKey(),
+    projectId: integer("project_id").notNull().references(() => projects.id, { onDelete: "cascade" }),
+    reconstructionId: integer("reconstruction_id").notNull().references(() => reconstructions.id, { onDelete: "no action" }),
+    weightSetVersionId: integer("weight_set_version_id").notNull().references(() => weightSetVersions.id, { onDelete: "no action" }),
+    /** { kind: "age", ageKa } or { kind: "period", name, youngKa, oldKa, rule } */
+    target: jsonb("target").$type<Record<string, unknown>>().notNull(),
+    inputsHash: text("inputs_hash").notNull(),
+    status: scoringStatus("status").notNull().default("running"),
+    jobRunId: uuid("job_run_id").references(() => jobRuns.id, { onDelete: "set null" }),
+    /** Storage prefix of the published files (potential GeoTIFF, occupation, preservation, statistics). */
+    layerPrefix: text("layer_prefix"),
+    /** Statistics, file list and checksums written when the job publishes. */
+    result: jsonb("result").$type<Record<string, unknown> | null>(),
+    error: text("error"),
+    createdBy: integer("created_by").references(() => users.id, { onDelete: "set null" }),
+    createdAt: createdAt(),
+    publishedAt: timestamp("published_at", { withTimezone: true }),
+  },
+  (t) => [uniqueIndex("scorings_inputs_key").on(t.projectId, t.inputsHash), index("scorings_project_idx").on(t.projectId, t.createdAt)],
+);
