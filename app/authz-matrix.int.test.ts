@@ -9,6 +9,7 @@ import routes from "./routes";
 import { db } from "./db.server";
 import { datasets, jobRuns, reconstructions } from "./db/schema";
 import { eq } from "drizzle-orm";
+import { createWeightSet } from "./weight-sets.server";
 import { buildWorld, call, cookieFor, EVERYONE, headersFor, isRefusal, type CallOptions, type Who, type World } from "../tests/support/world";
 
 type Verdict = "allow" | "refuse";
@@ -172,6 +173,22 @@ const MATRIX: Record<string, Probe[]> = {
   "routes/api.project-sites-export.ts": [
     { method: "GET", path: (w) => `/api/projects/${w.projectId}/sites/export?format=csv`, params: pid, expect: projectPage(["owner", "lead"]) },
   ],
+  "routes/api.project-weight-sets.ts": [
+    { method: "GET", path: (w) => `/api/projects/${w.projectId}/weight-sets`, params: pid, expect: projectPage([...MEMBERS, "viewerToken"]) },
+    { method: "POST", path: (w) => `/api/projects/${w.projectId}/weight-sets`, params: pid, options: { json: {} }, expect: projectPage(UPLOADERS) },
+  ],
+  "routes/api.project-adopted-weights.ts": [
+    { method: "GET", path: (w) => `/api/projects/${w.projectId}/weight-sets/adopted`, params: pid, expect: projectPage([...MEMBERS, "viewerToken"]) },
+    { method: "POST", path: (w) => `/api/projects/${w.projectId}/weight-sets/adopted`, params: pid, options: { json: {} }, expect: projectPage(["owner", "lead"]) },
+  ],
+  "routes/api.weight-set.ts": [
+    { method: "GET", path: () => `/api/weight-sets/x`, params: () => ({ id: String(weightSetId) }), expect: projectPage([...MEMBERS, "viewerToken"]) },
+    { method: "PATCH", path: () => `/api/weight-sets/x`, params: () => ({ id: String(weightSetId) }), options: { json: {} }, expect: projectPage(UPLOADERS) },
+    { method: "DELETE", path: () => `/api/weight-sets/x`, freshParams: async (w) => ({ id: String(await makeWeightSet(w)) }), expect: projectPage(UPLOADERS) },
+  ],
+  "routes/api.weight-set-restore.ts": [
+    { method: "POST", path: () => `/api/weight-sets/x/restore`, params: () => ({ id: String(weightSetId) }), options: { json: {} }, expect: projectPage(UPLOADERS) },
+  ],
 };
 
 interface RouteEntry {
@@ -188,6 +205,7 @@ let world: World;
 let datasetId: number;
 let reconstructionId: number;
 let jobId: string;
+let weightSetId: number;
 /** A dataset row to probe (its storage keys point nowhere; deleting it tolerates that). */
 async function makeDataset(w: World): Promise<number> {
   const [d] = await db()
@@ -196,8 +214,15 @@ async function makeDataset(w: World): Promise<number> {
     .returning({ id: datasets.id });
   return d.id;
 }
+/** A weight set with one version (the catalogue's starting content). */
+async function makeWeightSet(w: World): Promise<number> {
+  const { set } = await createWeightSet({ projectId: w.projectId, name: `Probe ${++weightSetCount}`, userId: w.userIds.analyst });
+  return set.id;
+}
+let weightSetCount = 0;
 beforeAll(async () => {
   world = await buildWorld("mx");
+  weightSetId = await makeWeightSet(world);
   datasetId = await makeDataset(world);
   // A reconstruction that never ran, with its (queued) job row: enough to probe the gates.
   const [run] = await db().insert(jobRuns).values({ projectId: world.projectId, kind: "reconstruction", payload: {} }).returning({ id: jobRuns.id });

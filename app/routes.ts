@@ -44,4 +44,8 @@ export default [
   route("api/projects/:projectId/map", "routes/api.project-map.ts"),
   route("api/jobs/:jobId", "routes/api.job.ts"),
   route("api/jobs/:jobId/cancel", "routes/api.job-cancel.ts"),
+  route("api/projects/:projectId/weight-sets", "routes/api.project-weight-sets.ts"),
+  route("api/projects/:projectId/weight-sets/adopted", "routes/api.project-adopted-weights.ts"),
+  route("api/weight-sets/:id", "routes/api.weight-set.ts"),
+  route("api/weight-sets/:id/restore", "routes/api.weight-set-restore.ts"),
 ] satisfies RouteConfig;
