@@ -4,7 +4,7 @@
 import fs from "node:fs/promises";
 import os from "node:os";
 import path from "node:path";
-import { sql } from "drizzle-orm";
+import { and, eq, sql } from "drizzle-orm";
 import { db, pool } from "../app/db.server";
 import { memberships, projects, users } from "../app/db/schema";
 import { hashPassword } from "../app/auth.server";
@@ -14,6 +14,7 @@ import { startReconstruction } from "../app/reconstructions.server";
 import { stopBoss } from "../jobs/boss.server";
 import { demoProject, demoUsers } from "./demo/demo-data";
 import { demoFiles } from "./demo/demo-files";
+import { seedDemoWeightSets } from "./demo/demo-weight-sets";
 
 if (!process.env.DATABASE_URL) {
   console.error("seed: DATABASE_URL is not set");
@@ -24,6 +25,9 @@ try {
   const [{ n }] = await db().select({ n: sql<number>`(select count(*) from ${projects}) + (select count(*) from ${users})` }).from(sql`(select 1) as one`);
   if (Number(n) > 0) {
     console.log("[seed] the database already holds projects or users: nothing seeded");
+    // Parts of the demo added since an installation was seeded (each checks for itself).
+    const [demo] = await db().select({ id: projects.id }).from(projects).where(and(eq(projects.slug, demoProject.slug), eq(projects.isDemo, true)));
+    if (demo) console.log(`[seed] demo project: ${await seedDemoWeightSets(demo.id)}`);
   } else {
     const t0 = Date.now();
     const hashes = await Promise.all(demoUsers.map((u) => hashPassword(u.password)));
@@ -70,7 +74,8 @@ try {
       unassessedBeyondM: 600,
       verticalResolutionM: 0.3,
     });
-    console.log(`[seed] seeded the demo project "${demoProject.name}", ${demoUsers.length} demo users and ${Object.keys(ids).length} datasets; reconstruction ${reconstruction.id} queued (${Date.now() - t0} ms)`);
+    const weights = await seedDemoWeightSets(project.id);
+    console.log(`[seed] seeded the demo project "${demoProject.name}", ${demoUsers.length} demo users and ${Object.keys(ids).length} datasets; reconstruction ${reconstruction.id} queued; ${weights} (${Date.now() - t0} ms)`);
   }
 } finally {
   await stopBoss();
