@@ -156,11 +156,11 @@ async function forkSources(rows: SetRow[]) {
   return new Map(src.map((s) => [s.versionId, s]));
 }
 
-async function views(rows: SetRow[], versionOf: Map<number, VersionRow>, extraUserIds: (number | null)[] = []): Promise<WeightSetView[]> {
+async function views(rows: SetRow[], versionOf: Map<number, VersionRow>): Promise<WeightSetView[]> {
   if (!rows.length) return [];
   const adopted = await adoptedVersion(rows[0].projectId);
   const forks = await forkSources(rows);
-  const names = await namesOf([...rows.map((r) => r.createdBy), ...[...versionOf.values()].map((v) => v.createdBy), adopted?.adoption.adoptedBy ?? null, ...extraUserIds]);
+  const names = await namesOf([...rows.map((r) => r.createdBy), ...[...versionOf.values()].map((v) => v.createdBy), adopted?.adoption.adoptedBy ?? null]);
   return rows.map((r) => {
     const v = versionOf.get(r.id)!;
     const isAdopted = adopted && adopted.set.id === r.id;
@@ -214,7 +214,7 @@ export async function getWeightSet(id: number, opts: { version?: number; project
   const wanted = opts.version ?? set.currentVersion;
   const v = versions.find((x) => x.version === wanted);
   if (!v) throw new UserError(404, "no_such_version", `“${set.name}” has no version ${wanted}: its versions are 1 to ${set.currentVersion}.`, "version");
-  const [view] = await views([set], new Map([[set.id, v]]), versions.map((x) => x.createdBy));
+  const [view] = await views([set], new Map([[set.id, v]]));
   const names = await namesOf(versions.map((x) => x.createdBy));
   return { ...view, history: versions.map((x) => summary(x, names)) };
 }
