@@ -2,7 +2,7 @@
 // readout under it, the section drawer and the sea-level strip along the bottom. Every per-age
 // layer follows the age chosen on the strip.
 import { useQueries, useQueryClient, type Query } from "@tanstack/react-query";
-import { lazy, Suspense, useCallback, useEffect, useMemo, useRef, useState } from "react";
+import { lazy, Suspense, useCallback, useEffect, useMemo, useRef, useState, type ReactNode } from "react";
 import { Link } from "react-router";
 import type { FeatureCollection } from "geojson";
 import { layerCatalogue, GROUP_ORDER, LAND_CLASSES, fmtValue, type LayerDef, type RasterDef, type VectorDef } from "./catalogue";
@@ -21,17 +21,39 @@ const DeckMap = lazy(() => import("./DeckMap.client"));
 
 type Reconstruction = NonNullable<MapData["reconstruction"]>;
 
-export function MapWorkspace({ data, reconstruction: r }: { data: MapData; reconstruction: Reconstruction }) {
+/** What a page built on the workspace adds: its own raster on top, its working panel, readout lines. */
+export interface WorkspaceExtras {
+  /** the heading of the tool bar (default "Map") */
+  title?: string;
+  /** a working panel shown beside the layer list, first */
+  workPanel?: { label: string; content: ReactNode };
+  /** a picture drawn above every reconstruction raster; `tag` names what it shows (written to data-overlay-tag once drawn) */
+  overlay?: { id: string; canvas: HTMLCanvasElement; opacity: number; tag: string } | null;
+  /** extra readout lines for the cell under the pointer */
+  extraReadout?: (col: number, row: number) => ReadoutValue[];
+  /** told whenever the age on the strip changes */
+  onAgeChange?: (ageKa: number) => void;
+  /** layers to start hidden or shown, by id */
+  initialVisibility?: Record<string, boolean>;
+}
+
+export function MapWorkspace({ data, reconstruction: r, extras = {} }: { data: MapData; reconstruction: Reconstruction; extras?: WorkspaceExtras }) {
   const queryClient = useQueryClient();
   const grid = r.grid;
   const origin = useMemo(() => ({ originX: grid.originX, originY: grid.originY }), [grid.originX, grid.originY]);
   const extentM = useMemo(() => ({ width: grid.width * grid.cellSizeX, height: grid.height * grid.cellSizeY }), [grid]);
   const defs = useMemo(() => layerCatalogue(data), [data]);
-  const [layerState, setLayerState] = useState<Record<string, LayerState>>(() => Object.fromEntries(defs.map((d) => [d.id, { visible: d.visible, opacity: d.opacity }])));
+  const [layerState, setLayerState] = useState<Record<string, LayerState>>(() => Object.fromEntries(defs.map((d) => [d.id, { visible: extras.initialVisibility?.[d.id] ?? d.visible, opacity: d.opacity }])));
   const stateOf = (d: LayerDef) => layerState[d.id] ?? { visible: d.visible, opacity: d.opacity };
-  const [ageKa, setAgeKa] = useState(r.agesKa[0]);
+  const [ageKa, setAgeKaState] = useState(r.agesKa[0]);
+  const onAgeChange = extras.onAgeChange;
+  const setAgeKa = useCallback((a: number) => {
+    setAgeKaState(a);
+    onAgeChange?.(a);
+  }, [onAgeChange]);
   const [playing, setPlaying] = useState(false);
   const [panelOpen, setPanelOpen] = useState(true);
+  const [panelTab, setPanelTab] = useState<"work" | "layers">(extras.workPanel ? "work" : "layers");
   const [hover, setHover] = useState<[number, number] | null>(null);
   const [sectionMode, setSectionMode] = useState(false);
   const [section, setSection] = useState<Array<[number, number]>>([]);
@@ -116,6 +138,8 @@ export function MapWorkspace({ data, reconstruction: r }: { data: MapData; recon
       rasterRenders.push({ id: d.id, image: canvas, opacity: stateOf(d).opacity, nearest: d.nearest });
     }
   }
+  const overlay = extras.overlay ?? null;
+  if (mounted && overlay) rasterRenders.push({ id: overlay.id, image: overlay.canvas, opacity: overlay.opacity, nearest: true });
   const rasterKey = rasterRenders.map((x) => `${x.id}:${x.opacity}:${canvasId(x.image)}`).join("|");
   // The same arrays for deck.gl until a layer, its opacity or its picture changes.
   const stableRasters = useMemo(() => rasterRenders, [rasterKey]);
@@ -156,14 +180,15 @@ export function MapWorkspace({ data, reconstruction: r }: { data: MapData; recon
   // The render counter: after every deck.gl frame, for tests and tools that wait on drawing.
   const wrapperRef = useRef<HTMLDivElement>(null);
   const renders = useRef(0);
-  const latest = useRef({ ageKa, ready });
-  latest.current = { ageKa, ready };
+  const latest = useRef({ ageKa, ready, overlayTag: overlay?.tag ?? "" });
+  latest.current = { ageKa, ready, overlayTag: overlay?.tag ?? "" };
   const [renderedAge, setRenderedAge] = useState<number | null>(null);
   const onAfterRender = useCallback(() => {
     renders.current += 1;
     const el = wrapperRef.current;
     if (!el) return;
     el.dataset.renderCount = String(renders.current);
+    el.dataset.overlayTag = latest.current.overlayTag;
     const done = latest.current.ready ? String(latest.current.ageKa) : "";
     if (el.dataset.renderedAge !== done) {
       el.dataset.renderedAge = done;
@@ -212,6 +237,7 @@ export function MapWorkspace({ data, reconstruction: r }: { data: MapData; recon
   if (hover) {
     const col = Math.floor(hover[0] / grid.cellSizeX);
     const row = Math.floor(-hover[1] / grid.cellSizeY);
+    if (extras.extraReadout) readoutValues.push(...extras.extraReadout(col, row));
     for (const d of rasterDefs) {
       const l = loaded.get(d.id);
       if (!l || d.layer === "hillshade" || !(stateOf(d).visible || d.alwaysRead)) continue;
@@ -226,7 +252,7 @@ export function MapWorkspace({ data, reconstruction: r }: { data: MapData; recon
   return (
     <div className="flex min-h-0 flex-1 flex-col">
       <div className="flex items-center gap-2 border-b border-sand-200 bg-sand-100 px-3 py-1">
-        <h1 className="text-base font-semibold">Map</h1>
+        <h1 className="text-base font-semibold">{extras.title ?? "Map"}</h1>
         <span className="truncate text-sm text-sediment-600">
           <Link to={`/projects/${data.project.id}/reconstructions/${r.id}`} className="underline decoration-sand-400 hover:text-deep-800">
             {r.name || `Reconstruction ${r.id}`}
@@ -256,7 +282,7 @@ export function MapWorkspace({ data, reconstruction: r }: { data: MapData; recon
           </div>
         </details>
         <button type="button" onClick={() => setPanelOpen(!panelOpen)} aria-expanded={panelOpen} aria-controls="map-panel" className={`${tool} border-sand-300 bg-white`}>
-          {panelOpen ? "Hide layers" : "Layers"}
+          {panelOpen ? "Hide panel" : extras.workPanel ? "Panel" : "Layers"}
         </button>
       </div>
       {sectionMode ? <SectionEnds origin={origin} onDraw={(a, b) => setSection([a, b])} /> : null}
@@ -264,7 +290,7 @@ export function MapWorkspace({ data, reconstruction: r }: { data: MapData; recon
         <div role="region" aria-label={`Map at ${age} ka BP (values under the pointer in the readout below)`} className="relative min-w-0 flex-1 bg-deep-950" ref={wrapperRef} data-testid="map" data-age={age} data-render-count="0" data-rendered-age="">
           {mounted ? (
             <Suspense fallback={<p className="p-4 text-sm text-sea-200">Loading the map…</p>}>
-              <DeckMap extentM={extentM} rasters={stableRasters} vectors={stableVectors} section={section} crosshair={sectionMode} onHover={onHover} onClick={onMapClick} onAfterRender={onAfterRender} fitSignal={fitSignal} frameTag={`${age}:${ready}`} />
+              <DeckMap extentM={extentM} rasters={stableRasters} vectors={stableVectors} section={section} crosshair={sectionMode} onHover={onHover} onClick={onMapClick} onAfterRender={onAfterRender} fitSignal={fitSignal} frameTag={`${age}:${ready}:${overlay?.tag ?? ""}`} />
             </Suspense>
           ) : null}
           {sectionMode && section.length < 2 ? (
@@ -274,8 +300,18 @@ export function MapWorkspace({ data, reconstruction: r }: { data: MapData; recon
           ) : null}
         </div>
         {panelOpen ? (
-          <aside id="map-panel" aria-label="Layers" className="w-80 shrink-0 overflow-y-auto border-l border-sand-200 bg-sand-50 p-3">
+          <aside id="map-panel" aria-label={extras.workPanel && panelTab === "work" ? extras.workPanel.label : "Layers"} className={`${extras.workPanel ? "w-[26rem]" : "w-80"} shrink-0 overflow-y-auto border-l border-sand-200 bg-sand-50 p-3`}>
+            {extras.workPanel ? (
+              <div role="tablist" aria-label="Panel" className="mb-3 flex gap-1 border-b border-sand-200">
+                {(["work", "layers"] as const).map((t) => (
+                  <button key={t} type="button" role="tab" aria-selected={panelTab === t} onClick={() => setPanelTab(t)} className={`-mb-px border-b-2 px-2 py-1 text-sm ${panelTab === t ? "border-ember-500 font-semibold" : "border-transparent text-sediment-600"}`}>
+                    {t === "work" ? extras.workPanel!.label : "Layers"}
+                  </button>
+                ))}
+              </div>
+            ) : null}
             <AgeSummary ageKa={age} ages={r.ages} />
+            {extras.workPanel && panelTab === "work" ? extras.workPanel.content : (<>
             <h2 className="mb-2 text-sm font-semibold">Layers</h2>
             <LayerList defs={defs} state={layerState} status={status} onChange={(id, next) => setLayerState((s) => ({ ...s, [id]: next }))} />
             <p className="mt-4 text-xs text-sediment-600">
@@ -286,6 +322,7 @@ export function MapWorkspace({ data, reconstruction: r }: { data: MapData; recon
               </Link>{" "}
               hold full precision.
             </p>
+            </>)}
           </aside>
         ) : null}
       </div>

@@ -33,3 +33,25 @@ export function scaleGradient(name: ScaleName): string {
 }
 
 export const rgbCss = (c: Rgb, a = 1) => (a === 1 ? `rgb(${c.join(",")})` : `rgba(${c.join(",")},${a})`);
+
+// PuOr, 9 classes (Brewer, C.A., colorbrewer.org; Harrower & Brewer 2003, The Cartographic Journal
+// 40(1)), a colour-blind-safe diverging scale for differences: purple below 0, orange above.
+const PUOR: Rgb[] = [
+  [84, 39, 136], [128, 115, 172], [178, 171, 210], [216, 218, 235], [247, 247, 247], [254, 224, 182], [253, 184, 99], [224, 130, 20], [179, 88, 6],
+];
+
+/** The diverging colour at d ∈ [−1, 1] (clamped): purple for negative, near-white at 0, orange for positive. */
+export function divergingColour(d: number): Rgb {
+  const stops = PUOR;
+  const x = (Math.min(1, Math.max(-1, d)) + 1) / 2 * (stops.length - 1);
+  const i = Math.min(stops.length - 2, Math.floor(x));
+  const f = x - i;
+  const a = stops[i];
+  const b = stops[i + 1];
+  return [Math.round(a[0] + (b[0] - a[0]) * f), Math.round(a[1] + (b[1] - a[1]) * f), Math.round(a[2] + (b[2] - a[2]) * f)];
+}
+
+/** A CSS gradient of the diverging scale, for legends. */
+export function divergingGradient(): string {
+  return `linear-gradient(to right, ${PUOR.map((c, i) => `rgb(${c.join(",")}) ${Math.round((i / (PUOR.length - 1)) * 100)}%`).join(", ")})`;
+}

@@ -1,0 +1,134 @@
+/// <reference lib="webworker" />
+// The weighing page's scoring worker: keeps the reconstruction's display layers (8-bit codes) and
+// re-scores the display grid whenever a weight, a curve or the target changes — with the very code
+// the scoring job runs (app/scoring/scoring-inputs.ts), so its result equals the server's.
+import { scoreTarget, type LayerSource } from "~/scoring/scoring-inputs";
+import { potentialChecksum, type LayerData } from "~/scoring/potential";
+import { spearmanRankCorrelation, topCellsInCommon } from "~/scoring/rank-compare";
+import { factorCorrelations } from "~/scoring/correlation";
+import { shelterIndex } from "~/scoring/shelter";
+import { classLayer } from "~/scoring/scoring-inputs";
+import { factorDef } from "~/scoring/factors";
+import { ScoringInputError } from "~/scoring/errors";
+import { differenceRgba, potentialRgba } from "./render";
+import { layerKey, type FromWorker, type ToWorker } from "./protocol";
+
+const layers = new Map<string, LayerData>();
+
+const source: LayerSource = (layer, ageKa) => layers.get(layerKey(layer, ageKa));
+
+function post(msg: FromWorker, transfer: Transferable[] = []) {
+  (self as unknown as DedicatedWorkerGlobalScope).postMessage(msg, transfer);
+}
+
+function fail(id: number, e: unknown) {
+  if (e instanceof ScoringInputError) post({ type: "error", id, message: e.message, field: e.field });
+  else post({ type: "error", id, message: e instanceof Error ? e.message : String(e) });
+}
+
+self.onmessage = (ev: MessageEvent<ToWorker>) => {
+  const msg = ev.data;
+  if (msg.type === "layers") {
+    for (const l of msg.layers) layers.set(l.key, { kind: "codes", codes: l.raster.codes, scale: l.raster.scale, offset: l.raster.offset, nodataCode: l.raster.nodataCode });
+    return;
+  }
+  if (msg.type === "score") {
+    try {
+      const t0 = performance.now();
+      const { grid } = msg;
+      const r = scoreTarget(msg.content, grid, msg.agesKa, msg.target, source, msg.evidence);
+      const checksum = potentialChecksum(r.potential);
+      let occupiable = 0;
+      let unassessed = 0;
+      let sum = 0;
+      let scored = 0;
+      let high = 0;
+      for (let i = 0; i < r.potential.length; i++) {
+        const v = r.potential[i];
+        if (r.unassessed[i] === 1) unassessed++;
+        if (v === v) {
+          scored++;
+          sum += v;
+          if (v >= 0.5) high++;
+        }
+        if (v === v || r.unassessed[i] === 1) occupiable++;
+      }
+      let rgba: Uint8ClampedArray;
+      let compare: Extract<FromWorker, { type: "scored" }>["compare"] = null;
+      if (msg.compare) {
+        const other = scoreTarget(msg.compare.content, grid, msg.agesKa, msg.target, source, msg.evidence);
+        rgba = differenceRgba(r.potential, other.potential, grid.width, grid.height);
+        let dsum = 0;
+        let dn = 0;
+        for (let i = 0; i < r.potential.length; i++) {
+          const d = r.potential[i] - other.potential[i];
+          if (d === d) {
+            dsum += d;
+            dn++;
+          }
+        }
+        let spearman: number | null = null;
+        let topShare: number | null = null;
+        try {
+          spearman = spearmanRankCorrelation(r.potential, other.potential).rho;
+        } catch {
+          spearman = null;
+        }
+        try {
+          topShare = topCellsInCommon(r.potential, other.potential, msg.compare.topN).share;
+        } catch {
+          topShare = null;
+        }
+        compare = { spearman, topShare, topN: msg.compare.topN, otherChecksum: potentialChecksum(other.potential), meanDifference: dn ? dsum / dn : null };
+      } else {
+        rgba = potentialRgba(r.potential, r.preservation.active ? r.unassessed : null, grid.width, grid.height);
+      }
+      const ms = performance.now() - t0;
+      post(
+        {
+          type: "scored",
+          id: msg.id,
+          width: grid.width,
+          height: grid.height,
+          rgba,
+          potential: r.potential,
+          unassessed: r.unassessed,
+          checksum,
+          notes: r.notes,
+          preservation: { active: r.preservation.active, reason: r.preservation.reason },
+          stats: { occupiable, unassessed, mean: scored ? sum / scored : null, high },
+          compare,
+          ms,
+        },
+        [rgba.buffer, r.potential.buffer, r.unassessed.buffer],
+      );
+    } catch (e) {
+      fail(msg.id, e);
+    }
+    return;
+  }
+  if (msg.type === "correlate") {
+    try {
+      const lc = source("land_class", msg.ageKa);
+      if (!lc) throw new ScoringInputError(`No land and sea classes at ${msg.ageKa} ka.`);
+      const landClass = classLayer(lc);
+      const mask = new Uint8Array(landClass.length);
+      for (let i = 0; i < mask.length; i++) mask[i] = landClass[i] === 0 || landClass[i] === 2 ? 1 : 0;
+      const inputs: { factor: (typeof msg.factors)[number]; data: LayerData }[] = [];
+      for (const f of msg.factors) {
+        const def = factorDef(f);
+        if (!def) continue;
+        if (f === "shelter") {
+          inputs.push({ factor: f, data: { kind: "values", values: shelterIndex(landClass, msg.grid, msg.shelterRadiusM) } });
+          continue;
+        }
+        const d = source(def.layer, def.perAge ? msg.ageKa : null);
+        if (d) inputs.push({ factor: f, data: d });
+      }
+      const c = factorCorrelations(inputs, mask, { maxSamples: 20000, seed: 1 });
+      post({ type: "correlated", id: msg.id, factors: c.factors, pearson: c.pearson, spearman: c.spearman, samples: c.samples });
+    } catch (e) {
+      fail(msg.id, e);
+    }
+  }
+};
