@@ -7,7 +7,7 @@
 import { beforeAll, describe, expect, it } from "vitest";
 import routes from "./routes";
 import { db } from "./db.server";
-import { datasets, jobRuns, reconstructions } from "./db/schema";
+import { datasets, jobRuns, reconstructions, scorings, weightSets, weightSetVersions } from "./db/schema";
 import { eq } from "drizzle-orm";
 import { createWeightSet } from "./weight-sets.server";
 import { buildWorld, call, cookieFor, EVERYONE, headersFor, isRefusal, type CallOptions, type Who, type World } from "../tests/support/world";
@@ -189,6 +189,19 @@ const MATRIX: Record<string, Probe[]> = {
   "routes/api.weight-set-restore.ts": [
     { method: "POST", path: () => `/api/weight-sets/x/restore`, params: () => ({ id: String(weightSetId) }), options: { json: {} }, expect: projectPage(UPLOADERS) },
   ],
+  "routes/api.project-scorings.ts": [
+    { method: "GET", path: (w) => `/api/projects/${w.projectId}/scorings`, params: pid, expect: projectPage([...MEMBERS, "viewerToken"]) },
+    { method: "POST", path: (w) => `/api/projects/${w.projectId}/scorings`, params: pid, options: { json: {} }, expect: projectPage(UPLOADERS) },
+  ],
+  "routes/api.scoring.ts": [
+    { method: "GET", path: () => `/api/scorings/x`, params: () => ({ id: String(scoringId) }), expect: projectPage([...MEMBERS, "viewerToken"]) },
+    { method: "POST", path: () => `/api/scorings/x`, params: () => ({ id: String(scoringId) }), options: { json: {} }, expect: projectPage([...MEMBERS, "viewerToken"]) },
+  ],
+  "routes/api.scoring-raster.ts": [
+    // The probe scoring never ran: members get 409 (not published), which is past the gate.
+    { method: "GET", path: () => `/api/scorings/x/raster/potential`, params: () => ({ id: String(scoringId), name: "potential" }), expect: projectPage([...MEMBERS, "viewerToken"]) },
+    { method: "POST", path: () => `/api/scorings/x/raster/potential`, params: () => ({ id: String(scoringId), name: "potential" }), options: { json: {} }, expect: projectPage([...MEMBERS, "viewerToken"]) },
+  ],
 };
 
 interface RouteEntry {
@@ -205,6 +218,7 @@ let world: World;
 let datasetId: number;
 let reconstructionId: number;
 let jobId: string;
+let scoringId: number;
 let weightSetId: number;
 /** A dataset row to probe (its storage keys point nowhere; deleting it tolerates that). */
 async function makeDataset(w: World): Promise<number> {
@@ -233,6 +247,14 @@ beforeAll(async () => {
     .returning({ id: reconstructions.id });
   reconstructionId = r.id;
   await db().update(jobRuns).set({ payload: { reconstructionId } }).where(eq(jobRuns.id, jobId));
+  // A scoring of it that never ran (a weight set of its own, so it does not depend on other probes).
+  const [probeSet] = await db().insert(weightSets).values({ projectId: world.projectId, name: "Scoring probe" }).returning({ id: weightSets.id });
+  const [probeVersion] = await db().insert(weightSetVersions).values({ weightSetId: probeSet.id, version: 1, content: {}, contentHash: "probe" }).returning({ id: weightSetVersions.id });
+  const [sc] = await db()
+    .insert(scorings)
+    .values({ projectId: world.projectId, reconstructionId, weightSetVersionId: probeVersion.id, target: { kind: "age", ageKa: 12 }, inputsHash: "probe" })
+    .returning({ id: scorings.id });
+  scoringId = sc.id;
 });
 
 describe("the development outbox", () => {

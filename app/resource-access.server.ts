@@ -3,7 +3,7 @@
 // learns nothing about whether the resource exists.
 import { eq } from "drizzle-orm";
 import { db } from "./db.server";
-import { datasets, jobRuns, reconstructions, weightSets } from "./db/schema";
+import { datasets, jobRuns, reconstructions, scorings, weightSets } from "./db/schema";
 import { requireProjectAccess } from "./permissions.server";
 import { requireIdentity } from "./auth.server";
 import { refusal } from "./security.server";
@@ -46,4 +46,9 @@ export async function requireJobAccess(request: Request, idParam: string | undef
 export async function requireWeightSetAccess(request: Request, idParam: string | undefined, capability: Capability) {
   const access = await requireResourceAccess(request, idParam, NUMERIC, async (id) => (await db().select({ p: weightSets.projectId }).from(weightSets).where(eq(weightSets.id, Number(id))))[0]?.p, capability, "no_such_weight_set", "weight set");
   return { ...access, weightSetId: Number(idParam) };
+}
+
+export async function requireScoringAccess(request: Request, idParam: string | undefined, capability: Capability) {
+  const access = await requireResourceAccess(request, idParam, NUMERIC, async (id) => (await db().select({ p: scorings.projectId }).from(scorings).where(eq(scorings.id, Number(id))))[0]?.p, capability, "no_such_scoring", "scoring");
+  return { ...access, scoringId: Number(idParam) };
 }

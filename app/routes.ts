@@ -48,4 +48,7 @@ export default [
   route("api/projects/:projectId/weight-sets/adopted", "routes/api.project-adopted-weights.ts"),
   route("api/weight-sets/:id", "routes/api.weight-set.ts"),
   route("api/weight-sets/:id/restore", "routes/api.weight-set-restore.ts"),
+  route("api/projects/:projectId/scorings", "routes/api.project-scorings.ts"),
+  route("api/scorings/:id", "routes/api.scoring.ts"),
+  route("api/scorings/:id/raster/:name", "routes/api.scoring-raster.ts"),
 ] satisfies RouteConfig;

@@ -4,10 +4,12 @@
 import { testJobsEnabled } from "./boss.server";
 import { testSleepJob } from "./test-sleep";
 import { reconstructionJob } from "./reconstruction";
+import { scoringJob } from "./scoring";
 import type { JobDefinition } from "./wrapper";
 
 export const JOB_REGISTRY: Record<string, JobDefinition<any>> = {
   [reconstructionJob.kind]: reconstructionJob,
+  [scoringJob.kind]: scoringJob,
 };
 
 if (testJobsEnabled()) JOB_REGISTRY[testSleepJob.kind] = testSleepJob;
