@@ -1,5 +1,6 @@
 import { describe, expect, it } from "vitest";
 import {
+  createPreservationCache,
   createScoreScratch,
   potentialChecksum,
   preservationModel,
@@ -379,6 +380,25 @@ describe("preservationModel", () => {
       if (Number.isNaN(a.score![i])) expect(b.score![i]).toBeNaN();
       else expect(Math.abs(b.score![i] - a.score![i])).toBeLessThan(1e-4);
     }
+  });
+
+  it("gives the same result with a cache reused across changed settings", () => {
+    const cache = createPreservationCache();
+    const i6 = inputs6({ landClassByAge: [Uint8Array.from([0, 1, 0, 0, 1, 0]), lc6] });
+    const fresh1 = preservationModel(pcontent(1, 1, 1), g6, i6);
+    const cached1 = preservationModel(pcontent(1, 1, 1), g6, i6, cache);
+    expect(cache.nearest).not.toBeNull();
+    expect(cache.shelter.has(i6.landClassByAge[0])).toBe(true);
+    const moved = pcontent(1, 2, 3);
+    moved.preservation.shelter.curve = { kind: "linear", direction: "increasing", zeroUntil: 0.1, fullAt: 0.9 };
+    const cached2 = preservationModel(moved, g6, i6, cache);
+    const fresh2 = preservationModel(moved, g6, i6);
+    expect(Array.from(cached1.score!)).toEqual(Array.from(fresh1.score!));
+    expect(Array.from(cached2.score!)).toEqual(Array.from(fresh2.score!));
+    expect(Array.from(cached2.score!)).not.toEqual(Array.from(cached1.score!));
+    // a new radius is not served from the cache
+    const wider = { ...moved, shelterRadiusM: 30 };
+    expect(Array.from(preservationModel(wider, g6, i6, cache).score!)).toEqual(Array.from(preservationModel(wider, g6, i6).score!));
   });
 
   it("is inactive, saying why, when switched off or without horizon data", () => {

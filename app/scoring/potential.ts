@@ -103,7 +103,7 @@ export interface ScoreScratch {
   shelterCache: ShelterCache | null;
 }
 
-interface ShelterCache {
+export interface ShelterCache {
   landClass: Uint8Array;
   radiusM: number;
   cellSizeX: number;
@@ -315,26 +315,48 @@ function occupationInto(content: WeightSetContent, grid: GridShape, n: number, a
   for (const t of terms) total += t.weight;
   for (const t of terms) t.weight /= total;
 
-  // 0 on occupiable cells (land, intertidal), NaN elsewhere; then one pass per factor
+  // Constant terms (absent distance layers) start the sum: base on occupiable cells (land,
+  // intertidal), NaN elsewhere.
+  let base = 0;
+  for (const t of terms) if (t.kind === TERM_CONST) base += t.weight * t.constant;
   for (let i = 0; i < n; i++) {
     const c = lc[i];
-    out[i] = c === 0 || c === 2 ? 0 : NaN;
+    out[i] = c === 0 || c === 2 ? base : NaN;
   }
-  for (let k = 0; k < terms.length; k++) {
-    const t = terms[k];
+  // Coded terms through tables premultiplied by their weight, four factors per pass over the output
+  // (fewer reads and writes of it than one pass per factor), then the remainder.
+  const tables: Float32Array[] = [];
+  const codeArrays: (Uint8Array | Uint16Array)[] = [];
+  for (const t of terms) {
+    if (t.kind !== TERM_CODES) continue;
+    const src = t.table!;
+    const tw = new Float32Array(src.length);
+    for (let c = 0; c < src.length; c++) tw[c] = t.weight * src[c];
+    tables.push(tw);
+    codeArrays.push(t.codes!);
+  }
+  const nc = tables.length;
+  let k = 0;
+  for (; k + 3 < nc; k += 4) {
+    const ta = tables[k], ca = codeArrays[k], tb = tables[k + 1], cb = codeArrays[k + 1];
+    const tc = tables[k + 2], cc = codeArrays[k + 2], td = tables[k + 3], cd = codeArrays[k + 3];
+    for (let i = 0; i < n; i++) out[i] += ta[ca[i]] + tb[cb[i]] + tc[cc[i]] + td[cd[i]];
+  }
+  for (; k + 1 < nc; k += 2) {
+    const ta = tables[k], ca = codeArrays[k], tb = tables[k + 1], cb = codeArrays[k + 1];
+    for (let i = 0; i < n; i++) out[i] += ta[ca[i]] + tb[cb[i]];
+  }
+  if (k < nc) {
+    const ta = tables[k], ca = codeArrays[k];
+    for (let i = 0; i < n; i++) out[i] += ta[ca[i]];
+  }
+  // Value layers (the job): each through its curve into the scratch, then added.
+  for (const t of terms) {
+    if (t.kind !== TERM_VALUES) continue;
+    if (ctx.scores === null) ctx.scores = new Float32Array(n);
+    const s = applyCurve(t.curve, t.values!, ctx.scores);
     const wk = t.weight;
-    if (t.kind === TERM_CONST) {
-      const add = wk * t.constant;
-      for (let i = 0; i < n; i++) out[i] += add;
-    } else if (t.kind === TERM_CODES) {
-      const codes = t.codes!;
-      const table = t.table!;
-      for (let i = 0; i < n; i++) out[i] += wk * table[codes[i]];
-    } else {
-      if (ctx.scores === null) ctx.scores = new Float32Array(n);
-      const s = applyCurve(t.curve, t.values!, ctx.scores);
-      for (let i = 0; i < n; i++) out[i] += wk * s[i];
-    }
+    for (let i = 0; i < n; i++) out[i] += wk * s[i];
   }
   return notes;
 }
@@ -502,6 +524,103 @@ export function scorePeriod(
 }
 
 /**
+ * What {@link preservationModel} can keep between calls on the same reconstruction (the Web Worker,
+ * when a preservation weight or curve moves): the shelter index of each age's land-class array and
+ * each cell's nearest age, and the shelter index at that age. Keyed by the identity of the arrays: do
+ * not change them in place.
+ */
+export interface PreservationCache {
+  shelter: WeakMap<Uint8Array, ShelterCache>;
+  nearest: { floodingAge: LayerData; floodingStatus: Uint8Array; agesKey: string; nearest: Int32Array; used: Uint8Array } | null;
+  /** the shelter index at each cell's nearest age, for one radius */
+  atFlooding: { nearest: Int32Array; radiusM: number; cellSizeX: number; cellSizeY: number; values: Float32Array } | null;
+}
+
+/** Common practice, no source. An empty {@link PreservationCache}. O(1). */
+export function createPreservationCache(): PreservationCache {
+  return { shelter: new WeakMap(), nearest: null, atFlooding: null };
+}
+
+/**
+ * Per cell, the index (into `inputs.agesKa`) of the reconstructed age nearest its flooding age (a
+ * tie → the older age; never drowned → the youngest age; no flooding age or nodata → −1), and which
+ * ages are used. O(n log m).
+ */
+function nearestAges(inputs: PreservationInputs, n: number, m: number, tmp: Float32Array, cache: PreservationCache | undefined) {
+  const ages = inputs.agesKa;
+  const agesKey = ages.join(",");
+  const c = cache?.nearest;
+  if (c && c.floodingAge === inputs.floodingAge && c.floodingStatus === inputs.floodingStatus && c.agesKey === agesKey) return c;
+  const order = Array.from(ages.keys()).sort((a, b) => ages[a] - ages[b]);
+  const sorted = order.map((k) => ages[k]);
+  const status = inputs.floodingStatus;
+  const floodAge = decodeLayer(inputs.floodingAge, tmp);
+  const nearest = new Int32Array(n);
+  const used = new Uint8Array(m);
+  for (let i = 0; i < n; i++) {
+    const st = status[i];
+    const f = floodAge[i];
+    let k = -1;
+    if (st === 255) k = -1;
+    else if (f === f) {
+      // binary search: first sorted age ≥ f, then the nearer of it and the one before (tie → older)
+      let lo = 0;
+      let hi = m;
+      while (lo < hi) {
+        const mid = (lo + hi) >>> 1;
+        if (sorted[mid] < f) lo = mid + 1;
+        else hi = mid;
+      }
+      let j: number;
+      if (lo === 0) j = 0;
+      else if (lo === m) j = m - 1;
+      else j = f - sorted[lo - 1] < sorted[lo] - f ? lo - 1 : lo;
+      k = order[j];
+    } else if (st === 0) k = order[0];
+    nearest[i] = k;
+    if (k >= 0) used[k] = 1;
+  }
+  const r = { floodingAge: inputs.floodingAge, floodingStatus: status, agesKey, nearest, used };
+  if (cache) cache.nearest = r;
+  return r;
+}
+
+/**
+ * Per cell, the shelter index at the reconstructed age nearest its flooding age (NaN where there is
+ * none: see {@link nearestAges}). O(n) per age used, plus the shelter index of each (cached).
+ */
+function shelterAtFlooding(
+  radiusM: number,
+  grid: GridShape,
+  inputs: PreservationInputs,
+  n: number,
+  m: number,
+  tmp: Float32Array,
+  cache: PreservationCache | undefined,
+): Float32Array {
+  const near = nearestAges(inputs, n, m, tmp, cache);
+  const c = cache?.atFlooding;
+  if (c && c.nearest === near.nearest && c.radiusM === radiusM && c.cellSizeX === grid.cellSizeX && c.cellSizeY === grid.cellSizeY)
+    return c.values;
+  const { nearest, used } = near;
+  const out = new Float32Array(n).fill(NaN);
+  for (let k = 0; k < m; k++) {
+    if (used[k] === 0) continue;
+    const lc = inputs.landClassByAge[k];
+    let sh: Float32Array;
+    const hit = cache?.shelter.get(lc);
+    if (hit && hit.radiusM === radiusM && hit.cellSizeX === grid.cellSizeX && hit.cellSizeY === grid.cellSizeY) sh = hit.values;
+    else {
+      sh = shelterIndex(lc, grid, radiusM);
+      cache?.shelter.set(lc, { landClass: lc, radiusM, cellSizeX: grid.cellSizeX, cellSizeY: grid.cellSizeY, values: sh });
+    }
+    for (let i = 0; i < n; i++) if (nearest[i] === k) out[i] = sh[i];
+  }
+  if (cache) cache.atFlooding = { nearest, radiusM, cellSizeX: grid.cellSizeX, cellSizeY: grid.cellSizeY, values: out };
+  return out;
+}
+
+/**
  * Design §4 (preservation as its own model); the components and their combination are our own
  * (common practice, no source).
  *
@@ -525,10 +644,16 @@ export function scorePeriod(
  * (the reconstruction has no horizon data at all).
  *
  * Preconditions: every layer on `grid`; `agesKa` and `landClassByAge` the same length, at least one
- * age. Throws {@link ScoringInputError}. Complexity: O(n) per component, O(n log m) to find the
+ * age. With `cache` (from {@link createPreservationCache}) the shelter indices and nearest ages of an
+ * earlier call on the same arrays are reused. Throws {@link ScoringInputError}. Complexity: O(n) per component, O(n log m) to find the
  * nearest of m ages, O(n) per age whose shelter is needed; a few Float32 arrays of n.
  */
-export function preservationModel(content: WeightSetContent, grid: GridShape, inputs: PreservationInputs | null): PreservationResult {
+export function preservationModel(
+  content: WeightSetContent,
+  grid: GridShape,
+  inputs: PreservationInputs | null,
+  cache?: PreservationCache,
+): PreservationResult {
   const p = content.preservation;
   if (!p.enabled) return { active: false, reason: PRESERVATION_OFF_REASON, score: null, unassessed: null };
   if (inputs === null || inputs.unassessed === null)
@@ -567,59 +692,43 @@ export function preservationModel(content: WeightSetContent, grid: GridShape, in
 
   if (w[1] > 0) {
     withLabel("Preservation, shoreface erosion", () => validateCurve(p.shorefaceErosion.curve));
-    const rate = decodeLayer(inputs.riseRateAtFlooding, tmp);
-    const time = new Float32Array(n);
-    for (let i = 0; i < n; i++) {
-      const r = rate[i];
-      time[i] = status[i] === 1 ? (r > 0 ? depth / r : r === r ? Infinity : NaN) : NaN;
-    }
-    applyCurve(p.shorefaceErosion.curve, time, time);
     const wk = w[1];
-    for (let i = 0; i < n; i++) {
-      const st = status[i];
-      score[i] += wk * (st === 0 ? 1 : st === 1 ? time[i] : NaN);
+    const rr = inputs.riseRateAtFlooding;
+    if (rr.kind === "codes") {
+      // one score per code: curve(erosionDepthM / rate)
+      const size = rr.codes instanceof Uint8Array ? 256 : 65536;
+      const times = new Float32Array(size);
+      for (let c = 0; c < size; c++) {
+        const r = c < rr.nodataCode ? c * rr.scale + rr.offset : NaN;
+        times[c] = r > 0 ? depth / r : r === r ? Infinity : NaN;
+      }
+      const tab = applyCurve(p.shorefaceErosion.curve, times, times);
+      const codes = rr.codes;
+      for (let i = 0; i < n; i++) {
+        const st = status[i];
+        score[i] += wk * (st === 0 ? 1 : st === 1 ? tab[codes[i]] : NaN);
+      }
+    } else {
+      const rate = rr.values;
+      const time = tmp;
+      for (let i = 0; i < n; i++) {
+        const r = rate[i];
+        time[i] = status[i] === 1 ? (r > 0 ? depth / r : r === r ? Infinity : NaN) : NaN;
+      }
+      applyCurve(p.shorefaceErosion.curve, time, time);
+      for (let i = 0; i < n; i++) {
+        const st = status[i];
+        score[i] += wk * (st === 0 ? 1 : st === 1 ? time[i] : NaN);
+      }
     }
   }
 
   if (w[2] > 0) {
     withLabel("Preservation, shelter", () => validateCurve(p.shelter.curve));
-    const ages = inputs.agesKa;
-    const order = Array.from(ages.keys()).sort((a, b) => ages[a] - ages[b]);
-    const sorted = order.map((k) => ages[k]);
-    const floodAge = decodeLayer(inputs.floodingAge, tmp);
-    const nearest = new Int32Array(n);
-    const used = new Uint8Array(m);
-    for (let i = 0; i < n; i++) {
-      const st = status[i];
-      const f = floodAge[i];
-      let k = -1;
-      if (st === 255) k = -1;
-      else if (f === f) {
-        // binary search: first sorted age ≥ f, then the nearer of it and the one before (tie → older)
-        let lo = 0;
-        let hi = m;
-        while (lo < hi) {
-          const mid = (lo + hi) >>> 1;
-          if (sorted[mid] < f) lo = mid + 1;
-          else hi = mid;
-        }
-        let j: number;
-        if (lo === 0) j = 0;
-        else if (lo === m) j = m - 1;
-        else j = f - sorted[lo - 1] < sorted[lo] - f ? lo - 1 : lo;
-        k = order[j];
-      } else if (st === 0) k = order[0];
-      nearest[i] = k;
-      if (k >= 0) used[k] = 1;
-      else score[i] = NaN;
-    }
+    const atFlooding = shelterAtFlooding(content.shelterRadiusM, grid, inputs, n, m, tmp, cache);
+    const s = applyCurve(p.shelter.curve, atFlooding, tmp);
     const wk = w[2];
-    for (let k = 0; k < m; k++) {
-      if (used[k] === 0) continue;
-      const sh = shelterIndex(inputs.landClassByAge[k], grid, content.shelterRadiusM);
-      applyCurve(p.shelter.curve, sh, sh);
-      for (let i = 0; i < n; i++) if (nearest[i] === k) score[i] += wk * sh[i];
-    }
+    for (let i = 0; i < n; i++) score[i] += wk * s[i];
   }
 
   const un = new Uint8Array(n);

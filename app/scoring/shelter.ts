@@ -63,23 +63,29 @@ export function shelterIndex(landClass: Uint8Array, grid: ShelterGrid, radiusM: 
     }
   }
   const out = new Float32Array(width * height);
+  // the window's first and one-past-last column per column, clipped at the edges
+  const colLo = new Int32Array(width);
+  const colHi = new Int32Array(width);
+  for (let c = 0; c < width; c++) {
+    colLo[c] = c - hx < 0 ? 0 : c - hx;
+    colHi[c] = c + hx + 1 > width ? width : c + hx + 1;
+  }
   for (let r = 0; r < height; r++) {
-    const r0 = r - hy < 0 ? 0 : r - hy;
-    const r1 = r + hy + 1 > height ? height : r + hy + 1;
+    const top = (r - hy < 0 ? 0 : r - hy) * w1;
+    const bottom = (r + hy + 1 > height ? height : r + hy + 1) * w1;
+    const row = r * width;
     for (let c = 0; c < width; c++) {
-      const i = r * width + c;
+      const i = row + c;
       if (landClass[i] === 255) {
         out[i] = NaN;
         continue;
       }
-      const c0 = c - hx < 0 ? 0 : c - hx;
-      const c1 = c + hx + 1 > width ? width : c + hx + 1;
-      const a = r0 * w1 + c0;
-      const b = r0 * w1 + c1;
-      const d = r1 * w1 + c0;
-      const e = r1 * w1 + c1;
+      const lo = colLo[c];
+      const hi = colHi[c];
       // the cell itself is valid, so the count is at least 1
-      out[i] = (landish[e] - landish[b] - landish[d] + landish[a]) / (valid[e] - valid[b] - valid[d] + valid[a]);
+      out[i] =
+        (landish[bottom + hi] - landish[top + hi] - landish[bottom + lo] + landish[top + lo]) /
+        (valid[bottom + hi] - valid[top + hi] - valid[bottom + lo] + valid[top + lo]);
     }
   }
   return out;
