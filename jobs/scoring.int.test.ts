@@ -267,6 +267,7 @@ describe("a scoring", () => {
     expect(classes.map((c) => c.name)).toEqual(["low", "medium", "high", "very high"]);
     const classCells = classes.reduce((a, c) => a + c.cells, 0);
     expect(result.unassessed.cells).toBeGreaterThan(0);
+    expect(result.provisionalClassification.unscored.cells).toBe(0);
     expect(classCells + result.unassessed.cells).toBe(result.occupiable.cells);
     expect(classes.reduce((a, c) => a + c.areaKm2, 0) + result.unassessed.areaKm2).toBeCloseTo(result.occupiable.areaKm2, 9);
     expect(result.occupiable.areaKm2).toBeCloseTo(result.occupiable.cells * cellKm2, 9);

@@ -30,6 +30,7 @@ import {
   geometryVertices,
   horizonEvidencePoints,
   scoreTarget,
+  scoredAges,
   targetAges,
   type CoreEvidence,
   type InterpretationEvidence,
@@ -71,7 +72,7 @@ const CAUTION =
   "A planning aid, not evidence: a low score is not evidence of absence, and unassessed ground is unknown, not low. " +
   "Fieldwork follows local heritage law and licensed archaeological practice.";
 
-/** One reconstruction layer as read, with its quantised display copy made on demand. */
+/** One reconstruction layer as read (Float32, NaN nodata; class layers too, as readGeoTiff returns them). */
 interface LoadedLayer {
   name: string;
   ageKa: number | null;
@@ -118,6 +119,8 @@ interface Stats {
     note: string;
     classes: { name: string; from: number; to: number; cells: number; areaKm2: number; share: number }[];
     unassessed: { cells: number; areaKm2: number; share: number };
+    /** occupiable cells that are neither classed nor unassessed (no preservation score, e.g. nodata in an input); normally 0 */
+    unscored: { cells: number; areaKm2: number; share: number };
   };
 }
 
@@ -155,6 +158,7 @@ export function scoringStatistics(score: ScoreResult, cellAreaKm2: number): Stat
     const sorted = finite.subarray(0, count).sort();
     median = count % 2 ? sorted[(count - 1) / 2] : (sorted[count / 2 - 1] + sorted[count / 2]) / 2;
   }
+  const unscored = Math.max(0, occupiable - count - unassessed);
   const area = (cells: number) => cells * cellAreaKm2;
   const share = (cells: number) => (occupiable > 0 ? cells / occupiable : 0);
   return {
@@ -166,6 +170,7 @@ export function scoringStatistics(score: ScoreResult, cellAreaKm2: number): Stat
       note: "Provisional classification (fixed breaks at 0.25, 0.5 and 0.75); the project's own classification comes later. Shares are of the occupiable area; unassessed ground is its own class, never low.",
       classes: PROVISIONAL_CLASSES.map((c, k) => ({ name: c.name, from: c.from, to: c.to, cells: classCells[k], areaKm2: area(classCells[k]), share: share(classCells[k]) })),
       unassessed: { cells: unassessed, areaKm2: area(unassessed), share: share(unassessed) },
+      unscored: { cells: unscored, areaKm2: area(unscored), share: share(unscored) },
     },
   };
 }
@@ -199,13 +204,15 @@ export const scoringJob = defineJob<ScoringPayload>("scoring", async (ctx) => {
     const spec: GridSpec = { width: g.width, height: g.height, originX: g.originX, originY: g.originY, cellSizeX: g.cellSizeX, cellSizeY: g.cellSizeY, crs: epsg ? { epsg, proj4: resolveCrs(epsg).proj4 } : null };
 
     // The layers the pipeline will ask for (scoring-inputs.ts buildScoringInputs): land_class at
-    // each needed age, each weighed factor's layer (per age or static; shelter is derived), and —
-    // with preservation on — tpi, rise_rate_at_flooding, flooding_age, flooding_status, unassessed
-    // and land_class at every age. Each is read once, at full resolution.
+    // each needed age, each weighed factor's layer at each scored age (per age or static; shelter
+    // is derived), and — with preservation on — tpi, rise_rate_at_flooding, flooding_age,
+    // flooding_status, unassessed and land_class at every age. Each is read once, in full.
     const scoreTargetOf: ScoreTarget = target.kind === "age" ? { kind: "age", ageKa: target.ageKa } : { kind: "period", period: { name: target.name, youngKa: target.youngKa, oldKa: target.oldKa, rule: target.rule } };
     let needAges: number[];
+    let scored: number[];
     try {
       needAges = targetAges(scoreTargetOf, manifest.agesKa);
+      scored = scoredAges(scoreTargetOf, manifest.agesKa);
     } catch (e) {
       if (e instanceof ScoringInputError) throw new JobUserError(e.message);
       throw e;
@@ -214,8 +221,9 @@ export const scoringJob = defineJob<ScoringPayload>("scoring", async (ctx) => {
     const want = (name: string, ageKa: number | null) => {
       if (!wanted.some((w) => w.name === name && w.ageKa === ageKa)) wanted.push({ name, ageKa });
     };
-    for (const a of needAges) {
-      want("land_class", a);
+    for (const a of needAges) want("land_class", a);
+    // Factor layers only at the ages the target scores (a period's ages of positive weight).
+    for (const a of scored) {
       for (const f of content.factors) {
         const def = factorDef(f.factor);
         if (!(f.weight > 0) || !def || f.factor === "shelter") continue;
@@ -334,7 +342,7 @@ export const scoringJob = defineJob<ScoringPayload>("scoring", async (ctx) => {
         reason: full.preservation.reason,
         evidence: content.preservation.enabled ? { points: evidence.points.length, intact: evidence.points.filter((p) => p.state === "intact").length, truncated: evidence.points.filter((p) => p.state === "truncated").length, datasets: evidence.datasets } : null,
       },
-      factors: content.factors.filter((f) => f.weight > 0).map((f) => ({ factor: f.factor, weight: f.weight, layer: factorDef(f.factor)!.layer, present: f.factor === "shelter" || needAges.some((a) => loaded.has(idOf(factorDef(f.factor)!.layer, factorDef(f.factor)!.perAge ? a : null))) })),
+      factors: content.factors.filter((f) => f.weight > 0).map((f) => ({ factor: f.factor, weight: f.weight, layer: factorDef(f.factor)!.layer, present: f.factor === "shelter" || scored.some((a) => loaded.has(idOf(factorDef(f.factor)!.layer, factorDef(f.factor)!.perAge ? a : null))) })),
       files,
       displayChecksum: {
         checksum: potentialChecksum(display.potential),
