@@ -13,16 +13,11 @@
 import { Worker, isMainThread, parentPort, workerData } from "node:worker_threads";
 import { availableParallelism } from "node:os";
 import { fileURLToPath } from "node:url";
-import { checkForestLayers, DEFAULT_FOREST_SETTINGS, predictCells, type CompiledForest } from "../app/scoring/forest.ts";
+import { checkForestLayers, DEFAULT_FOREST_SETTINGS, PredictionCancelled, predictCells, type CompiledForest } from "../app/scoring/forest.ts";
 
 const ROLE = "lowstand-forest-predict-worker";
 
-export class PredictionCancelled extends Error {
-  constructor() {
-    super("prediction cancelled");
-    this.name = "PredictionCancelled";
-  }
-}
+export { PredictionCancelled };
 
 type ToWorker = { type: "chunk"; start: number; end: number } | { type: "exit" };
 type FromWorker = { type: "ready" } | { type: "done"; start: number; end: number } | { type: "error"; message: string; stack?: string };

@@ -8,6 +8,7 @@ import {
   predictCells,
   predictRaster,
   predictSamples,
+  PredictionCancelled,
   serialiseForest,
   trainForest,
   trainingSet,
@@ -169,6 +170,8 @@ describe("counting the votes", () => {
     expect(part[9]).toBe(-1);
     expect(part[10]).toBe(a[10]);
     expect(part[20]).toBe(-1);
+    expect(() => predictRaster(trained.compiled, layers, { shouldCancel: () => true })).toThrow(PredictionCancelled);
+    expect(() => predictRaster(trained.compiled, layers.slice(1))).toThrow(/trained on 4 factors but 3 layers/);
   });
 
   it("learns the coast preference of the invented sites", () => {

@@ -32,6 +32,14 @@ import type { CrossValidationResult } from "./cross-validate.ts";
 
 export const FOREST_LIBRARY = "ml-random-forest 2.1.0";
 
+/** Thrown when a prediction is stopped by its caller (not an input error). */
+export class PredictionCancelled extends Error {
+  constructor() {
+    super("prediction cancelled");
+    this.name = "PredictionCancelled";
+  }
+}
+
 // ---- the training set ---------------------------------------------------------------------------
 
 /** A known site (site_records): only `in_situ` with an adequate position ever trains. */
@@ -242,7 +250,8 @@ export function trainingSet(input: {
 
 /**
  * Common practice, no source. The samples `rows` of a training set as a new training set (for a
- * fold). O(r·p).
+ * fold); its exclusions are the whole set's. Preconditions: rows are indices of samples of `set`.
+ * O(r·p).
  */
 export function subsetTrainingSet(set: TrainingSet, rows: ArrayLike<number>): TrainingSet {
   const p = set.factorIds.length;
@@ -571,7 +580,8 @@ function checkLayers(forest: CompiledForest, layers: readonly Float32Array[]): n
  * Breiman (2001), Machine Learning 45(1) (the forest's vote).
  *
  * The probability raster in one thread, `chunkCells` cells at a time (progress and cancellation
- * between chunks; memory is the output raster only). Preconditions: as {@link predictCells}.
+ * between chunks, {@link PredictionCancelled} when stopped; memory is the output raster only).
+ * Preconditions: as {@link predictCells}; layers that do not fit the forest → {@link ScoringInputError}.
  * O(n·T·depth).
  */
 export function predictRaster(
@@ -583,7 +593,7 @@ export function predictRaster(
   const chunk = options.chunkCells ?? DEFAULT_FOREST_SETTINGS.chunkCells;
   const out = new Float32Array(n);
   for (let s = 0; s < n; s += chunk) {
-    if (options.shouldCancel?.()) throw new ScoringInputError("Prediction cancelled.");
+    if (options.shouldCancel?.()) throw new PredictionCancelled();
     predictCells(forest, layers, s, Math.min(n, s + chunk), out);
     options.onProgress?.(Math.min(n, s + chunk) / n);
   }

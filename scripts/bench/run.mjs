@@ -5,7 +5,7 @@
 // single-age GRASS chain on the same grid (r.watershed -s, stream threshold, shoreline, two
 // r.grow.distance, r.slope.aspect; import and export not counted).
 //
-//   node scripts/bench/run.mjs [--size 1024,2048,4096] [--ages 5] [--threads 2] [--no-grass] [--no-write] [--json out.json]
+//   node scripts/bench/run.mjs [--size 1024,2048,4096] [--ages 5] [--threads 2] [--no-grass] [--no-write] [--json out.json] [--forest | --forest-only]
 //
 // Every measurement runs in a fresh Node process so its peak RSS is its own. Speed and memory are
 // measured here, never by timed assertions in the tests.
@@ -19,6 +19,7 @@ const here = path.dirname(fileURLToPath(import.meta.url));
 const root = path.resolve(here, "../..");
 const runTs = path.join(root, "scripts/run-ts.mjs");
 const bench = path.join(here, "terrain-bench.ts");
+const scoringBench = path.join(here, "scoring.ts");
 
 const argv = process.argv.slice(2);
 const opt = (k, d) => {
@@ -26,7 +27,7 @@ const opt = (k, d) => {
   return i >= 0 ? argv[i + 1] : d;
 };
 const flag = (k) => argv.includes(`--${k}`);
-const sizes = String(opt("size", "1024,2048,4096")).split(",").map(Number);
+const sizes = flag("forest-only") ? [] : String(opt("size", "1024,2048,4096")).split(",").map(Number); // --forest-only: the forest benchmark alone
 const AGE_LIST = [20, 16, 14, 12, 10, 8, 18, 6, 15, 11];
 const agesOpt = String(opt("ages", "5"));
 const ages = agesOpt.includes(",") ? agesOpt.split(",").map(Number) : AGE_LIST.slice(0, Math.max(1, Math.min(AGE_LIST.length, Number(agesOpt))));
@@ -84,6 +85,18 @@ t "r.slope.aspect" r.slope.aspect elevation=dem slope=slope aspect=aspect --quie
 }
 
 const results = { machine: { cpus: cpus().length, model: cpus()[0]?.model, totalMemGiB: +(totalmem() / 2 ** 30).toFixed(1), node: process.version }, ages, threads, sizes: [] };
+if (!flag("no-scoring")) {
+  const r = spawnSync(process.execPath, [runTs, scoringBench, "--size", String(opt("scoring-size", "1024"))], { encoding: "utf8", maxBuffer: 1 << 24 });
+  if (r.status !== 0) throw new Error(`scoring benchmark failed:\n${r.stderr}`);
+  const lines = r.stdout.trim().split("\n");
+  results.scoring = JSON.parse(lines.pop());
+  console.log(lines.join("\n") + "\n");
+  if (flag("scoring-only")) {
+    const jsonOut = opt("json");
+    if (jsonOut) writeFileSync(jsonOut, JSON.stringify(results, null, 2));
+    process.exit(0);
+  }
+}
 console.log(`Lowstand terrain benchmark — ${results.machine.cpus} cores (${results.machine.model}), ${results.machine.totalMemGiB} GiB, Node ${process.version}`);
 console.log(`synthetic shelf (seed 20260, 25 m cells), ages ${ages.join(", ")} ka, ${threads} worker threads`);
 console.log(`started ${new Date().toISOString()}, load average ${loadavg().map((x) => x.toFixed(2)).join(" ")} (other work on the machine slows every figure)\n`);
@@ -113,6 +126,12 @@ for (const size of sizes) {
   }
   results.sizes.push({ size, steps: st, pipeline: pipe, write: wr, grass: g, loadAverageAfter: loadavg() });
   console.log(`  load average after: ${loadavg().map((x) => x.toFixed(2)).join(" ")}\n`);
+}
+// the forest benchmark (scripts/bench/forest.ts: training time against samples and trees, prediction in
+// one thread against the pool), with --forest or --forest-only; it prints its own table
+if (flag("forest") || flag("forest-only")) {
+  const r = spawnSync(process.execPath, [runTs, path.join(here, "forest.ts"), "--threads", String(threads)], { stdio: "inherit" });
+  if (r.status !== 0) process.exitCode = 1;
 }
 const jsonOut = opt("json");
 if (jsonOut) writeFileSync(jsonOut, JSON.stringify(results, null, 2));
