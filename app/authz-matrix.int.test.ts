@@ -11,6 +11,7 @@ import { datasets, jobRuns, reconstructions, scorings, weightSets, weightSetVers
 import { eq } from "drizzle-orm";
 import { createWeightSet } from "./weight-sets.server";
 import { buildWorld, call, cookieFor, EVERYONE, headersFor, isRefusal, type CallOptions, type Who, type World } from "../tests/support/world";
+import { closeSession, getSession, startSession } from "./weighing-sessions.server";
 
 type Verdict = "allow" | "refuse";
 type Expect = Partial<Record<Who, Verdict>> & { default: Verdict };
@@ -135,6 +136,34 @@ const MATRIX: Record<string, Probe[]> = {
     { method: "POST", path: (w) => `/projects/${w.projectId}/sea-level`, params: pid, options: { form: { intent: "nothing" } }, expect: projectPage(UPLOADERS) },
   ],
   "routes/project-map.tsx": [{ method: "GET", path: (w) => `/projects/${w.projectId}/map`, params: pid, expect: projectPage(MEMBERS) }],
+  "routes/project-sessions.tsx": [
+    { method: "GET", path: (w) => `/projects/${w.projectId}/weighing`, params: pid, expect: projectPage(MEMBERS) },
+    { method: "POST", path: (w) => `/projects/${w.projectId}/weighing`, params: pid, options: { form: { title: "" } }, expect: projectPage(["owner", "lead"]) },
+  ],
+  "routes/project-session.tsx": [{ method: "GET", path: (w) => `/projects/${w.projectId}/weighing/x`, params: (w) => ({ ...pid(w), sessionId: String(openSessionId) }), expect: projectPage(MEMBERS) }],
+  // Probed on a closed session the caller lacks nothing of: allowed callers get 204 (no stream to close).
+  "routes/live.session-events.ts": [{ method: "GET", path: () => `/live/weighing/x?after=999`, params: () => ({ sessionId: String(closedSessionId) }), expect: projectPage(MEMBERS) }],
+  "routes/api.project-sessions.ts": [
+    { method: "GET", path: (w) => `/api/projects/${w.projectId}/weighing-sessions`, params: pid, expect: projectPage([...MEMBERS, "viewerToken"]) },
+    { method: "POST", path: (w) => `/api/projects/${w.projectId}/weighing-sessions`, params: pid, options: { json: {} }, expect: projectPage(["owner", "lead"]) },
+  ],
+  "routes/api.session.ts": [
+    { method: "GET", path: () => `/api/weighing-sessions/x`, params: () => ({ sessionId: String(openSessionId) }), expect: projectPage([...MEMBERS, "viewerToken"]) },
+    { method: "POST", path: () => `/api/weighing-sessions/x`, params: () => ({ sessionId: String(openSessionId) }), options: { json: {} }, expect: projectPage([...MEMBERS, "viewerToken"]) },
+  ],
+  "routes/api.session-events.ts": [{ method: "GET", path: () => `/api/weighing-sessions/x/events?after=0`, params: () => ({ sessionId: String(openSessionId) }), expect: projectPage([...MEMBERS, "viewerToken"]) }],
+  "routes/api.session-proposal.ts": [
+    { method: "GET", path: () => `/api/weighing-sessions/x/proposal`, params: () => ({ sessionId: String(openSessionId) }), expect: projectPage(UPLOADERS) },
+    { method: "POST", path: () => `/api/weighing-sessions/x/proposal`, params: () => ({ sessionId: String(openSessionId) }), options: { json: {} }, expect: projectPage(UPLOADERS) },
+  ],
+  "routes/api.session-comments.ts": [
+    { method: "POST", path: () => `/api/weighing-sessions/x/comments`, params: () => ({ sessionId: String(openSessionId) }), options: { json: {} }, expect: projectPage(["owner", "lead", "analyst", "reviewer"]) },
+  ],
+  // Probed on a closed session: allowed callers get 409 (already closed).
+  "routes/api.session-close.ts": [{ method: "POST", path: () => `/api/weighing-sessions/x/close`, params: () => ({ sessionId: String(closedSessionId) }), options: { json: {} }, expect: projectPage(["owner", "lead"]) }],
+  "routes/api.session-outcome.ts": [
+    { method: "POST", path: () => `/api/weighing-sessions/x/outcome`, params: () => ({ sessionId: String(openSessionId) }), options: { json: {} }, expect: projectPage(["owner", "lead"]) },
+  ],
   "routes/api.project-reconstructions.ts": [
     { method: "GET", path: (w) => `/api/projects/${w.projectId}/reconstructions`, params: pid, expect: projectPage([...MEMBERS, "viewerToken"]) },
     { method: "POST", path: (w) => `/api/projects/${w.projectId}/reconstructions`, params: pid, options: { json: {} }, expect: projectPage(UPLOADERS) },
@@ -215,6 +244,8 @@ function routeFiles(list: RouteEntry[]): string[] {
 const FILES = routeFiles(routes as RouteEntry[]);
 
 let world: World;
+let openSessionId: number;
+let closedSessionId: number;
 let datasetId: number;
 let reconstructionId: number;
 let jobId: string;
@@ -236,6 +267,9 @@ async function makeWeightSet(w: World): Promise<number> {
 let weightSetCount = 0;
 beforeAll(async () => {
   world = await buildWorld("mx");
+  openSessionId = (await startSession(world.projectId, { title: "Probe", method: "direct" }, { userId: world.userIds.lead })).id;
+  closedSessionId = (await startSession(world.projectId, { title: "Probe, closed", method: "direct" }, { userId: world.userIds.lead })).id;
+  await closeSession((await getSession(closedSessionId))!, { userId: world.userIds.lead, name: "Lead Person" });
   weightSetId = await makeWeightSet(world);
   datasetId = await makeDataset(world);
   // A reconstruction that never ran, with its (queued) job row: enough to probe the gates.
