@@ -37,19 +37,22 @@ console.log(`started ${new Date().toISOString()}, load average ${loadavg().map((
 const world = forestWorld({ width: 400, height: 400, cellSizeM: 50, factors: 9, sites: 2000, seed: 20260 });
 const cellCount = world.grid.width * world.grid.height;
 const maxN = Math.max(...samplesList);
-const draws = targetGroupBackground({ effort: world.effort, landByAge: world.landByAge, presencesPerAge: world.sitesPerAge, count: maxN, seed: 3 });
+const draws = targetGroupBackground({ effort: world.effort, landByAge: world.landByAge, presencesPerAge: world.sitesPerAge, count: Math.max(maxN, 2000), seed: 3 }); // 2 000 at least: the prediction model
 
-const training: { samples: number; presences: number; background: number; trees: number; ms: number }[] = [];
+const training: { samples: number; presences: number; background: number; trees: number; ms: number; cpuMs: number }[] = [];
 let model: ReturnType<typeof trainForest> | null = null;
 console.log("training (9 factors, 70 % of them per tree, ml-random-forest 2.1.0):");
-console.log("  samples  presences  background  trees   time s");
+console.log("  samples  presences  background  trees   time s    CPU s  (CPU time is the figure other load barely moves)");
 for (const n of samplesList) {
   const set = trainingSet({ evidence: world.evidence, background: draws, stack: world.stack, cellCount, maxSamples: n, seed: 1 });
   for (const trees of treesList) {
+    const c0 = process.cpuUsage();
     const t = trainForest(set, { trees, seed: 5, maxSamples: Math.max(20, n) });
+    const c = process.cpuUsage(c0);
+    const cpuMs = (c.user + c.system) / 1000;
     if (n === 2000 && trees === 50) model = t;
-    training.push({ samples: set.labels.length, presences: set.presences, background: set.background, trees, ms: t.trainingMs });
-    console.log(`  ${String(set.labels.length).padStart(7)}  ${String(set.presences).padStart(9)}  ${String(set.background).padStart(10)}  ${String(trees).padStart(5)}  ${(t.trainingMs / 1000).toFixed(2).padStart(7)}`);
+    training.push({ samples: set.labels.length, presences: set.presences, background: set.background, trees, ms: t.trainingMs, cpuMs });
+    console.log(`  ${String(set.labels.length).padStart(7)}  ${String(set.presences).padStart(9)}  ${String(set.background).padStart(10)}  ${String(trees).padStart(5)}  ${(t.trainingMs / 1000).toFixed(2).padStart(7)}  ${(cpuMs / 1000).toFixed(2).padStart(7)}`);
   }
 }
 
