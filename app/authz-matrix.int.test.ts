@@ -7,6 +7,7 @@
 import { beforeAll, describe, expect, it } from "vitest";
 import routes from "./routes";
 import { db } from "./db.server";
+import { defaultWeightSetContent } from "./scoring/weight-set";
 import { datasets, jobRuns, reconstructions, scorings, weightSets, weightSetVersions } from "./db/schema";
 import { eq } from "drizzle-orm";
 import { createWeightSet } from "./weight-sets.server";
@@ -164,6 +165,8 @@ const MATRIX: Record<string, Probe[]> = {
   "routes/api.session-outcome.ts": [
     { method: "POST", path: () => `/api/weighing-sessions/x/outcome`, params: () => ({ sessionId: String(openSessionId) }), options: { json: {} }, expect: projectPage(["owner", "lead"]) },
   ],
+  "routes/project-weight-sets.tsx": [{ method: "GET", path: (w) => `/projects/${w.projectId}/weights`, params: pid, expect: projectPage(MEMBERS) }],
+  "routes/project-weight-set.tsx": [{ method: "GET", path: (w) => `/projects/${w.projectId}/weights/x`, params: (w) => ({ ...pid(w), weightSetId: String(weightSetId) }), expect: projectPage(MEMBERS) }],
   "routes/api.project-reconstructions.ts": [
     { method: "GET", path: (w) => `/api/projects/${w.projectId}/reconstructions`, params: pid, expect: projectPage([...MEMBERS, "viewerToken"]) },
     { method: "POST", path: (w) => `/api/projects/${w.projectId}/reconstructions`, params: pid, options: { json: {} }, expect: projectPage(UPLOADERS) },
@@ -283,7 +286,7 @@ beforeAll(async () => {
   await db().update(jobRuns).set({ payload: { reconstructionId } }).where(eq(jobRuns.id, jobId));
   // A scoring of it that never ran (a weight set of its own, so it does not depend on other probes).
   const [probeSet] = await db().insert(weightSets).values({ projectId: world.projectId, name: "Scoring probe" }).returning({ id: weightSets.id });
-  const [probeVersion] = await db().insert(weightSetVersions).values({ weightSetId: probeSet.id, version: 1, content: {}, contentHash: "probe" }).returning({ id: weightSetVersions.id });
+  const [probeVersion] = await db().insert(weightSetVersions).values({ weightSetId: probeSet.id, version: 1, content: defaultWeightSetContent() as unknown as Record<string, unknown>, contentHash: "probe" }).returning({ id: weightSetVersions.id });
   const [sc] = await db()
     .insert(scorings)
     .values({ projectId: world.projectId, reconstructionId, weightSetVersionId: probeVersion.id, target: { kind: "age", ageKa: 12 }, inputsHash: "probe" })

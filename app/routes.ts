@@ -26,6 +26,8 @@ export default [
     route("map", "routes/project-map.tsx"),
     route("weighing", "routes/project-sessions.tsx"),
     route("weighing/:sessionId", "routes/project-session.tsx"),
+    route("weights", "routes/project-weight-sets.tsx"),
+    route("weights/:weightSetId", "routes/project-weight-set.tsx"),
   ]),
   route("dev/outbox", "routes/dev-outbox.tsx"),
   route("live/weighing/:sessionId", "routes/live.session-events.ts"),

@@ -172,11 +172,11 @@ function Workbench({ data, reconstruction: r, mayEdit }: { data: LoaderData; rec
                     aria-label={`Weight of ${def.label}`}
                     data-factor={f.factor}
                     onChange={(e) => setFactor(f.factor, { weight: Number(e.target.value) })}
-                    className="w-24 accent-ember-600"
+                    className="w-24 accent-[var(--color-ember-500)]"
                   />
                   <span className="w-12 text-right text-xs tabular-nums" aria-label={`Share of ${def.label}`}>{share ? `${share.toFixed(0)} %` : "off"}</span>
                 </div>
-                {!present ? <p className="text-[11px] text-caution-800">This reconstruction has no {def.layer.replace(/_/g, " ")} layer.</p> : null}
+                {!present ? <p className={`text-[11px] ${f.weight > 0 ? "text-caution-800" : "text-sediment-600"}`}>This reconstruction has no {def.layer.replace(/_/g, " ")} layer{f.weight > 0 ? ": the factor is left out." : "."}</p> : null}
                 {open === f.factor ? (
                   <FactorCurvePanel reconstruction={r} factor={f.factor} ageKa={ageKa} curve={f.curve} editable={mayEdit} onChange={(curve) => setFactor(f.factor, { curve })} />
                 ) : null}
@@ -224,7 +224,7 @@ function Workbench({ data, reconstruction: r, mayEdit }: { data: LoaderData; rec
       <MapWorkspace
         data={map}
         reconstruction={r}
-        extras={{ title: "Weighing", workPanel: { label: "Weights", content: panel }, overlay, extraReadout, onAgeChange: setAgeKa, initialVisibility: { land_class: false } }}
+        extras={{ title: "Weights", workPanel: { label: "Weights", content: panel }, overlay, extraReadout, onAgeChange: setAgeKa, initialVisibility: { land_class: false } }}
       />
     </div>
   );
@@ -621,7 +621,7 @@ function FullScoringPanel({ data, reconstructionId, target, dirty }: { data: Loa
       {problem ? <p role="alert" className="text-caution-800">{problem}</p> : null}
       <ul className="space-y-1" data-testid="scoring-runs">
         {runs.map((s) => (
-          <li key={s.id} className="border-t border-sand-200 pt-1" data-status={s.status}>
+          <li key={s.id} className="border-t border-sand-200 pt-1" data-status={s.status} data-scoring-id={s.id}>
             <span className="font-semibold">#{s.id}</span> v{(s.version as { version?: number } | null)?.version ?? "?"} · {s.targetLabel} · {s.status}
             {s.status === "running" ? ` ${Math.round(100 * (s.progress ?? 0))} %` : ""}
             {s.error ? <div className="text-caution-800">{s.error}</div> : null}

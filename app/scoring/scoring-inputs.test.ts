@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { buildScoringInputs, classLayer, geometryVertices, horizonEvidencePoints, scoredAges, scoreTarget, type LayerSource } from "./scoring-inputs.ts";
+import { buildScoringInputs, classLayer, createScoringCache, geometryVertices, horizonEvidencePoints, scoredAges, scoreTarget, type LayerSource } from "./scoring-inputs.ts";
 import { defaultWeightSetContent, type WeightSetContent } from "./weight-set.ts";
 import { potentialChecksum, type LayerData } from "./potential.ts";
 import { quantise } from "../raster-display.ts";
@@ -111,6 +111,24 @@ describe("scoreTarget", () => {
     const b = scoreTarget(content(), grid, AGES, { kind: "age", ageKa: 12 }, source(layers, "codes"), []);
     expect(potentialChecksum(a.potential)).toBe(potentialChecksum(b.potential));
     expect(a.preservation.active).toBe(true);
+  });
+
+  it("with a cache (the worker's) gives exactly what it gives without one, call after call", () => {
+    const cache = createScoringCache();
+    const get = source(layers, "codes");
+    const c1 = content();
+    const c2 = content();
+    c2.factors = c2.factors.map((f) => (f.factor === "slope" ? { ...f, weight: 7 } : f));
+    for (const c of [c1, c2, c1]) {
+      const plain = potentialChecksum(scoreTarget(c, grid, AGES, { kind: "age", ageKa: 12 }, get, []).potential);
+      const cached = potentialChecksum(scoreTarget(c, grid, AGES, { kind: "age", ageKa: 12 }, get, [], cache).potential);
+      expect(cached).toBe(plain);
+    }
+    const c3 = content();
+    c3.preservation = { ...c3.preservation, evidenceRadiusM: 500 };
+    const ev = [{ x: 1000 + 25, y: 9000 - 5 * 50 - 25, state: "intact" as const }];
+    // a change of preservation settings is not served from the cache
+    expect(potentialChecksum(scoreTarget(c3, grid, AGES, { kind: "age", ageKa: 12 }, get, ev, cache).potential)).toBe(potentialChecksum(scoreTarget(c3, grid, AGES, { kind: "age", ageKa: 12 }, get, ev).potential));
   });
 
   it("on 8-bit codes stays within the quantisation error of the full-precision values", () => {

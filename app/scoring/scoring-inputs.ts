@@ -10,15 +10,19 @@
 import { factorDef } from "./factors.ts";
 import { checkPeriodAgainstAges, type PeriodSetting, type WeightSetContent } from "./weight-set.ts";
 import {
+  createPreservationCache,
+  createScoreScratch,
   preservationModel,
   scoreAge,
   scorePeriod,
   type AgeInputs,
   type GridShape,
   type LayerData,
+  type PreservationCache,
   type PreservationInputs,
   type PreservationResult,
   type ScoreResult,
+  type ScoreScratch,
 } from "./potential.ts";
 import { horizonEvidenceGrid } from "./horizon-evidence.ts";
 import { ScoringInputError } from "./errors.ts";
@@ -103,7 +107,9 @@ export function buildScoringInputs(
   get: LayerSource,
   evidencePoints: readonly EvidencePoint[],
   scored: readonly number[] = needAges,
+  cache?: ScoringCache,
 ): { ages: AgeInputs[]; preservation: PreservationInputs | null } {
+  const classLayer = (d: LayerData) => cachedClassLayer(d, cache);
   const ages: AgeInputs[] = [];
   for (const ageKa of needAges) {
     const lc = get("land_class", ageKa);
@@ -147,6 +153,34 @@ export function buildScoringInputs(
   return { ages, preservation };
 }
 
+/**
+ * What a caller that scores again and again on the same layers (the browser worker) keeps between
+ * calls: class layers decoded once per array, the preservation result while its settings, layers and
+ * evidence stay the same, and scratch buffers for one age. Results that come from the scratch are
+ * overwritten by the next call with the same cache.
+ */
+export interface ScoringCache {
+  classLayers: WeakMap<LayerData, Uint8Array>;
+  /** the preservation model's own cache (shelter indices, nearest ages), kept while settings change */
+  preservationParts: PreservationCache;
+  preservation: { key: string; refs: readonly unknown[]; result: PreservationResult } | null;
+  scratch: ScoreScratch | null;
+}
+
+export function createScoringCache(): ScoringCache {
+  return { classLayers: new WeakMap(), preservationParts: createPreservationCache(), preservation: null, scratch: null };
+}
+
+function cachedClassLayer(d: LayerData, cache: ScoringCache | undefined): Uint8Array {
+  if (!cache) return classLayer(d);
+  let c = cache.classLayers.get(d);
+  if (!c) {
+    c = classLayer(d);
+    cache.classLayers.set(d, c);
+  }
+  return c;
+}
+
 export interface TargetScore extends ScoreResult {
   preservation: PreservationResult;
   ageWeights: { ageKa: number; weight: number }[];
@@ -165,12 +199,29 @@ export function scoreTarget(
   target: ScoreTarget,
   get: LayerSource,
   evidencePoints: readonly EvidencePoint[],
+  cache?: ScoringCache,
 ): TargetScore {
   const need = targetAges(target, agesKa);
-  const { ages, preservation: inputs } = buildScoringInputs(content, grid, agesKa, need, get, evidencePoints, scoredAges(target, agesKa));
-  const preservation = preservationModel(content, grid, inputs);
+  const { ages, preservation: inputs } = buildScoringInputs(content, grid, agesKa, need, get, evidencePoints, scoredAges(target, agesKa), cache);
+  let preservation: PreservationResult;
+  if (cache) {
+    // the same settings on the same layer arrays and evidence give the same result
+    const key = JSON.stringify([content.preservation, content.shelterRadiusM, agesKa]);
+    const refs = inputs ? [inputs.tpi, inputs.riseRateAtFlooding, inputs.floodingAge, inputs.floodingStatus, inputs.unassessed, ...inputs.landClassByAge, evidencePoints] : [evidencePoints];
+    const hit = cache.preservation;
+    if (hit && hit.key === key && hit.refs.length === refs.length && hit.refs.every((r, i) => r === refs[i])) preservation = hit.result;
+    else {
+      preservation = preservationModel(content, grid, inputs, cache.preservationParts);
+      cache.preservation = { key, refs, result: preservation };
+    }
+  } else preservation = preservationModel(content, grid, inputs);
   if (target.kind === "age") {
-    const r = scoreAge(content, grid, ages[0], preservation);
+    let scratch: ScoreScratch | undefined;
+    if (cache) {
+      if (!cache.scratch || cache.scratch.occupation.length !== grid.width * grid.height) cache.scratch = createScoreScratch(grid);
+      scratch = cache.scratch;
+    }
+    const r = scoreAge(content, grid, ages[0], preservation, scratch);
     return { ...r, preservation, ageWeights: [{ ageKa: target.ageKa, weight: 1 }] };
   }
   const r = scorePeriod(content, grid, target.period, ages, preservation);

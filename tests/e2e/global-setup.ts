@@ -97,6 +97,7 @@ export default async function globalSetup() {
   worker.stderr!.on("data", (d) => (output += d));
   await waitForHealth(baseUrl, child, () => output);
   process.env.E2E_BASE_URL = baseUrl;
+  process.env.E2E_DATABASE_URL = databaseUrl;
   await signInDemoRoles(baseUrl);
 
   return async () => {

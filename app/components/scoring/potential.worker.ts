@@ -2,7 +2,7 @@
 // The weighing page's scoring worker: keeps the reconstruction's display layers (8-bit codes) and
 // re-scores the display grid whenever a weight, a curve or the target changes — with the very code
 // the scoring job runs (app/scoring/scoring-inputs.ts), so its result equals the server's.
-import { scoreTarget, type LayerSource } from "~/scoring/scoring-inputs";
+import { createScoringCache, scoreTarget, type EvidencePoint, type LayerSource } from "~/scoring/scoring-inputs";
 import { potentialChecksum, type LayerData } from "~/scoring/potential";
 import { spearmanRankCorrelation, topCellsInCommon } from "~/scoring/rank-compare";
 import { factorCorrelations } from "~/scoring/correlation";
@@ -14,6 +14,21 @@ import { differenceRgba, potentialRgba } from "./render";
 import { layerKey, type FromWorker, type ToWorker } from "./protocol";
 
 const layers = new Map<string, LayerData>();
+// decoded class layers, the preservation result and scratch buffers, kept between re-scores
+const cache = createScoringCache();
+const compareCache = createScoringCache();
+// evidence arrives anew with every message: keep one array while its content stays the same, so the
+// cached preservation result is reused
+let evidence: EvidencePoint[] = [];
+let evidenceJson = "[]";
+function stableEvidence(next: EvidencePoint[]): EvidencePoint[] {
+  const json = JSON.stringify(next);
+  if (json !== evidenceJson) {
+    evidence = next;
+    evidenceJson = json;
+  }
+  return evidence;
+}
 
 const source: LayerSource = (layer, ageKa) => layers.get(layerKey(layer, ageKa));
 
@@ -36,7 +51,8 @@ self.onmessage = (ev: MessageEvent<ToWorker>) => {
     try {
       const t0 = performance.now();
       const { grid } = msg;
-      const r = scoreTarget(msg.content, grid, msg.agesKa, msg.target, source, msg.evidence);
+      const ev = stableEvidence(msg.evidence);
+      const r = scoreTarget(msg.content, grid, msg.agesKa, msg.target, source, ev, cache);
       const checksum = potentialChecksum(r.potential);
       let occupiable = 0;
       let unassessed = 0;
@@ -56,7 +72,7 @@ self.onmessage = (ev: MessageEvent<ToWorker>) => {
       let rgba: Uint8ClampedArray;
       let compare: Extract<FromWorker, { type: "scored" }>["compare"] = null;
       if (msg.compare) {
-        const other = scoreTarget(msg.compare.content, grid, msg.agesKa, msg.target, source, msg.evidence);
+        const other = scoreTarget(msg.compare.content, grid, msg.agesKa, msg.target, source, ev, compareCache);
         rgba = differenceRgba(r.potential, other.potential, grid.width, grid.height);
         let dsum = 0;
         let dn = 0;
@@ -91,8 +107,8 @@ self.onmessage = (ev: MessageEvent<ToWorker>) => {
           width: grid.width,
           height: grid.height,
           rgba,
-          potential: r.potential,
-          unassessed: r.unassessed,
+          potential: r.potential.slice(),
+          unassessed: r.unassessed.slice(),
           checksum,
           notes: r.notes,
           preservation: { active: r.preservation.active, reason: r.preservation.reason },
@@ -100,7 +116,8 @@ self.onmessage = (ev: MessageEvent<ToWorker>) => {
           compare,
           ms,
         },
-        [rgba.buffer, r.potential.buffer, r.unassessed.buffer],
+        // the potential and mask may live in the cache's scratch: they are copied, the picture moved
+        [rgba.buffer],
       );
     } catch (e) {
       fail(msg.id, e);
