@@ -28,7 +28,7 @@ async function openWeightSet(page: Page, name: string): Promise<{ map: Locator; 
 
 const renderCount = (map: Locator) => map.getAttribute("data-render-count").then(Number);
 
-/** After a change: the worker's new potential is drawn in a later frame than `after`. */
+/** After a change: the worker's new potential is drawn (the tag is written after a frame) in a later frame than `after`, counted before the change. */
 async function waitForRedraw(map: Locator, status: Locator, before: string, after: number) {
   await expect(status).not.toHaveAttribute("data-checksum", before, { timeout: 30_000 });
   const now = (await status.getAttribute("data-checksum"))!;
@@ -49,10 +49,11 @@ test.describe("weighing as an analyst", () => {
 
     // a weight: the slider moves with the keyboard
     const slope = page.getByRole("slider", { name: "Weight of Slope" });
+    const framesBefore = await renderCount(map);
     await slope.focus();
     await page.keyboard.press("ArrowRight");
     await page.keyboard.press("ArrowRight");
-    const afterWeight = await waitForRedraw(map, status, first!, await renderCount(map));
+    const afterWeight = await waitForRedraw(map, status, first!, framesBefore);
     expect(afterWeight).not.toBe(first);
     expect(await canvas.screenshot()).not.toEqual(shotBefore);
     await expect(page.getByTestId("unsaved")).toBeVisible();
