@@ -37,6 +37,17 @@ export const projects = pgTable(
     siteGeneralisationM: integer("site_generalisation_m").notNull().default(1000),
     /** Generalised cells holding fewer known sites than this are not shown (small-count suppression). */
     siteMinCount: integer("site_min_count").notNull().default(3),
+    /**
+     * The one project classification of potential (issue 10), used by gain, block figures,
+     * sensitivity and targets alike: { kind: "fixed", thresholds, labels } or { kind: "quantile",
+     * shares, thresholds (frozen), labels, frozenFrom }. See app/scoring/classification.ts.
+     */
+    classification: jsonb("classification")
+      .$type<Record<string, unknown>>()
+      .notNull()
+      .default(sql`'{"kind":"fixed","thresholds":[0.25,0.5,0.75],"labels":["low","medium","high","very high"]}'::jsonb`),
+    /** When the lead last revealed the hold-out sites to the team (null: hidden). Audit-logged. */
+    holdoutRevealedAt: timestamp("holdout_revealed_at", { withTimezone: true }),
     createdBy: integer("created_by").references(() => users.id, { onDelete: "set null" }),
     createdAt: createdAt(),
   },
@@ -263,6 +274,8 @@ export const siteRecords = pgTable(
     /** The community that contributed the record, whose custodian controls its visibility. */
     community: text("community"),
     visibility: siteVisibility("visibility").notNull().default("normal"),
+    /** In the hold-out set chosen by a lead: hidden from validation while weights are tuned (issue 10). */
+    heldOut: boolean("held_out").notNull().default(false),
     attributes: jsonb("attributes").$type<Record<string, unknown>>().notNull().default({}),
   },
   (t) => [index("site_records_project_idx").on(t.projectId)],
@@ -425,4 +438,84 @@ export const scorings = pgTable(
     publishedAt: timestamp("published_at", { withTimezone: true }),
   },
   (t) => [uniqueIndex("scorings_inputs_key").on(t.projectId, t.inputsHash), index("scorings_project_idx").on(t.projectId, t.createdAt)],
+);
+
+export const modelStatus = pgEnum("model_status", ["running", "published", "failed", "cancelled"]);
+
+/**
+ * A trained model (design §4, issue 10): a random forest on factor values of one reconstruction,
+ * with spatial-block cross-validation, its model card and a probability raster. Model rasters peak
+ * on exact site positions: never shown below analyst (capability models.read).
+ */
+export const models = pgTable(
+  "models",
+  {
+    id: serial("id").primaryKey(),
+    projectId: integer("project_id").notNull().references(() => projects.id, { onDelete: "cascade" }),
+    reconstructionId: integer("reconstruction_id").notNull().references(() => reconstructions.id, { onDelete: "no action" }),
+    name: text("name").notNull().default(""),
+    /** factors, ages or period, caps (samples, trees), block size, folds, seed, minimum sites */
+    params: jsonb("params").$type<Record<string, unknown>>().notNull(),
+    inputsHash: text("inputs_hash").notNull(),
+    status: modelStatus("status").notNull().default("running"),
+    jobRunId: uuid("job_run_id").references(() => jobRuns.id, { onDelete: "set null" }),
+    layerPrefix: text("layer_prefix"),
+    /** the model card: inputs, sample counts, parameters, fold metrics, training time */
+    card: jsonb("card").$type<Record<string, unknown> | null>(),
+    result: jsonb("result").$type<Record<string, unknown> | null>(),
+    error: text("error"),
+    createdBy: integer("created_by").references(() => users.id, { onDelete: "set null" }),
+    createdAt: createdAt(),
+    publishedAt: timestamp("published_at", { withTimezone: true }),
+  },
+  (t) => [uniqueIndex("models_inputs_key").on(t.projectId, t.inputsHash), index("models_project_idx").on(t.projectId, t.createdAt)],
+);
+
+/**
+ * A validation (design §5): a scoring or a model against the project's sites and cores under one
+ * classification, stored so two can be compared on the same sites. Keyed by what went in.
+ */
+export const validations = pgTable(
+  "validations",
+  {
+    id: serial("id").primaryKey(),
+    projectId: integer("project_id").notNull().references(() => projects.id, { onDelete: "cascade" }),
+    /** "scoring" or "model" */
+    subjectKind: text("subject_kind").notNull(),
+    subjectId: integer("subject_id").notNull(),
+    /** SHA-256 over the classification, the evidence used (ids and positions) and the hold-out state */
+    inputsHash: text("inputs_hash").notNull(),
+    result: jsonb("result").$type<Record<string, unknown>>().notNull(),
+    createdAt: createdAt(),
+  },
+  (t) => [uniqueIndex("validations_key").on(t.projectId, t.subjectKind, t.subjectId, t.inputsHash)],
+);
+
+export const uncertaintyStatus = pgEnum("uncertainty_status", ["running", "published", "failed", "cancelled"]);
+
+/**
+ * An uncertainty run (design §7, issue 12): Monte Carlo over the weights and the landscape's own
+ * parameters for one weight-set version on one age or period; seeded and repeatable.
+ */
+export const uncertaintyRuns = pgTable(
+  "uncertainty_runs",
+  {
+    id: serial("id").primaryKey(),
+    projectId: integer("project_id").notNull().references(() => projects.id, { onDelete: "cascade" }),
+    reconstructionId: integer("reconstruction_id").notNull().references(() => reconstructions.id, { onDelete: "no action" }),
+    weightSetVersionId: integer("weight_set_version_id").notNull().references(() => weightSetVersions.id, { onDelete: "no action" }),
+    target: jsonb("target").$type<Record<string, unknown>>().notNull(),
+    /** draws, seed, weight perturbation, which landscape parameters vary and by how much */
+    params: jsonb("params").$type<Record<string, unknown>>().notNull(),
+    inputsHash: text("inputs_hash").notNull(),
+    status: uncertaintyStatus("status").notNull().default("running"),
+    jobRunId: uuid("job_run_id").references(() => jobRuns.id, { onDelete: "set null" }),
+    layerPrefix: text("layer_prefix"),
+    result: jsonb("result").$type<Record<string, unknown> | null>(),
+    error: text("error"),
+    createdBy: integer("created_by").references(() => users.id, { onDelete: "set null" }),
+    createdAt: createdAt(),
+    publishedAt: timestamp("published_at", { withTimezone: true }),
+  },
+  (t) => [uniqueIndex("uncertainty_inputs_key").on(t.projectId, t.inputsHash)],
 );
