@@ -519,3 +519,58 @@ export const uncertaintyRuns = pgTable(
   },
   (t) => [uniqueIndex("uncertainty_inputs_key").on(t.projectId, t.inputsHash)],
 );
+
+export const reviewStatus = pgEnum("review_status", ["open", "decided"]);
+export const reviewDecision = pgEnum("review_decision", ["accepted", "accepted_with_conditions", "changes_requested"]);
+
+/**
+ * A regulator's review (design §7, issue 12) on a snapshot frozen by a content hash: the
+ * reconstruction, weight-set version or model, classification, uncertainty run and the checksums of
+ * their files. Everything a review refers to becomes undeletable. The decision is signed by the
+ * reviewer re-entering their password and stored with name, time and the snapshot hash.
+ */
+export const reviews = pgTable(
+  "reviews",
+  {
+    id: serial("id").primaryKey(),
+    projectId: integer("project_id").notNull().references(() => projects.id, { onDelete: "cascade" }),
+    title: text("title").notNull(),
+    /** what was frozen: ids, versions, hashes and file checksums */
+    snapshot: jsonb("snapshot").$type<Record<string, unknown>>().notNull(),
+    snapshotHash: text("snapshot_hash").notNull(),
+    status: reviewStatus("status").notNull().default("open"),
+    decision: reviewDecision("decision"),
+    conditions: text("conditions").array().notNull().default(sql`'{}'::text[]`),
+    decisionNote: text("decision_note").notNull().default(""),
+    signedBy: integer("signed_by").references(() => users.id, { onDelete: "set null" }),
+    /** the signer's name as it was at signing */
+    signedName: text("signed_name"),
+    signedAt: timestamp("signed_at", { withTimezone: true }),
+    createdBy: integer("created_by").references(() => users.id, { onDelete: "set null" }),
+    createdAt: createdAt(),
+  },
+  (t) => [index("reviews_project_idx").on(t.projectId, t.createdAt)],
+);
+
+/** Threaded comments on a review (reviewer, lead, analyst). */
+export const reviewComments = pgTable(
+  "review_comments",
+  {
+    id: serial("id").primaryKey(),
+    reviewId: integer("review_id").notNull().references(() => reviews.id, { onDelete: "cascade" }),
+    parentId: integer("parent_id"),
+    userId: integer("user_id").references(() => users.id, { onDelete: "set null" }),
+    body: text("body").notNull(),
+    createdAt: createdAt(),
+  },
+  (t) => [index("review_comments_review_idx").on(t.reviewId, t.createdAt)],
+);
+
+/** Exclusion buffers a reviewer sets per feature kind (issue 12), per project. */
+export const exclusionSettings = pgTable("exclusion_settings", {
+  projectId: integer("project_id").primaryKey().references(() => projects.id, { onDelete: "cascade" }),
+  /** { wreck: 100, anomaly: 50, find_spot: 50, ... } in metres, added to extent + position uncertainty */
+  buffersM: jsonb("buffers_m").$type<Record<string, number>>().notNull(),
+  updatedBy: integer("updated_by").references(() => users.id, { onDelete: "set null" }),
+  updatedAt: timestamp("updated_at", { withTimezone: true }).notNull().defaultNow(),
+});
