@@ -17,6 +17,12 @@ import { SpreadChart, type SpreadRow } from "~/components/session/SpreadChart";
 import { Discussion } from "~/components/session/Discussion";
 import { OutcomePanel } from "~/components/session/OutcomePanel";
 import type { SessionSnapshot } from "~/components/session/session-state";
+import { DisagreementMap } from "~/components/session/DisagreementMap";
+import { mapPayload } from "~/map.server";
+import { db } from "~/db.server";
+import { projects } from "~/db/schema";
+import { eq } from "drizzle-orm";
+import type { MapData } from "~/components/map/types";
 import type { Route } from "./+types/project-session";
 
 export const meta = ({ data }: Route.MetaArgs) => [{ title: `${data?.snapshot.session.title ?? "Weighing session"} · Lowstand` }];
@@ -26,6 +32,9 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const snapshot = (await sessionSnapshot(session.id))!;
   const mayLead = can(role, "weights.adopt");
   const sets = mayLead && session.status === "open" ? await listWeightSets(session.projectId) : [];
+  // the newest published reconstruction, for the disagreement map (what this role may see of the map)
+  const [project] = await db().select().from(projects).where(eq(projects.id, session.projectId));
+  const map = (await mapPayload(project, { userId: identity.user.id, role }, null)) as unknown as MapData;
   return {
     snapshot,
     me: { id: identity.user.id, name: identity.user.name },
@@ -34,6 +43,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     mayComment: mayCommentFor(role),
     mayLead,
     weightSets: sets.map((s) => ({ id: s.id, name: s.name, currentVersion: s.currentVersion })),
+    map: map.reconstruction ? map : null,
   };
 }
 
@@ -45,7 +55,7 @@ export default function ProjectSession({ loaderData }: Route.ComponentProps) {
   return <WeighingRoom key={`${snapshot.session.id}:${loaderData.role}:${snapshot.session.status}`} {...loaderData} />;
 }
 
-function WeighingRoom({ snapshot, me, role, mayPropose, mayComment, mayLead, weightSets }: Route.ComponentProps["loaderData"]) {
+function WeighingRoom({ snapshot, me, role, mayPropose, mayComment, mayLead, weightSets, map }: Route.ComponentProps["loaderData"]) {
   const revalidator = useRevalidator();
   const { state, live } = useSessionStream(snapshot as SessionSnapshot, () => void revalidator.revalidate());
   const s = state.session;
@@ -76,6 +86,7 @@ function WeighingRoom({ snapshot, me, role, mayPropose, mayComment, mayLead, wei
     [group, factors, state.proposals],
   );
 
+  const proposalsForMap = useMemo(() => state.proposals.map((p) => ({ name: p.name, content: p.content })), [state.proposals]);
   const present = new Set(state.present);
   const byId = new Map(state.members.map((m) => [m.userId, m]));
   const tookPart = [...new Set([...state.proposals.map((p) => p.name), ...state.comments.map((c) => c.name)])];
@@ -193,12 +204,13 @@ function WeighingRoom({ snapshot, me, role, mayPropose, mayComment, mayLead, wei
         )}
       </section>
 
-      {/* SLOT: the disagreement map — per cell the spread of potential across the proposals and the
-          top-N overlap matrix between each pair — needs the browser scoring worker
-          (app/components/scoring/, being written by the integrator). Wire it here once it lands. */}
-      <section aria-label="Disagreement map" className="rounded-md border border-dashed border-sand-300 p-4 text-sm text-sediment-600" data-testid="disagreement-map-slot">
-        <h2 className="font-semibold text-sediment-800">Disagreement map</h2>
-        <p>Where the proposals disagree on the map (the spread of potential per cell, and how many top cells each pair of proposals shares) will show here once the in-browser scoring is available.</p>
+      <section aria-label="Disagreement map" className="space-y-2">
+        <h2 className="font-semibold">Where the proposals disagree</h2>
+        {map ? (
+          <DisagreementMap map={map} proposals={proposalsForMap} />
+        ) : (
+          <p className="text-sm text-sediment-600">The map of disagreement needs a published reconstruction of the project.</p>
+        )}
       </section>
 
       <section aria-label="Discussion" className="space-y-2">

@@ -22,7 +22,8 @@ import { CurveEditor, displayHistogram, reshape, shapeOf, SHAPE_WORDS, type Curv
 import { AhpPanel } from "~/components/scoring/AhpPanel";
 import { useLiveScoring, type Correlations } from "~/components/scoring/useLiveScoring";
 import { factorDef, type FactorId } from "~/scoring/factors";
-import { geometryVertices, horizonEvidencePoints, type ScoreTarget } from "~/scoring/scoring-inputs";
+import type { ScoreTarget } from "~/scoring/scoring-inputs";
+import { evidenceFromOverlays } from "~/components/scoring/evidence";
 import type { PeriodSetting, WeightSetContent } from "~/scoring/weight-set";
 import type { FactorCurve } from "~/scoring/factor-curves";
 import type { Route } from "./+types/project-weight-set";
@@ -96,11 +97,7 @@ function Workbench({ data, reconstruction: r, mayEdit }: { data: LoaderData; rec
 
   const period = content.periods.find((p) => p.name === periodName) ?? null;
   const target: ScoreTarget = useMemo(() => (period ? { kind: "period", period } : { kind: "age", ageKa }), [period, ageKa]);
-  const evidence = useMemo(() => {
-    const cores = map.overlays.filter((o) => o.kind === "cores").flatMap((o) => o.geojson.features.map((f) => ({ x: (f.geometry as { coordinates: number[] }).coordinates[0], y: (f.geometry as { coordinates: number[] }).coordinates[1], ...(f.properties as Record<string, string>) })));
-    const interps = map.overlays.filter((o) => o.kind === "interpretations").flatMap((o) => o.geojson.features.map((f) => ({ kind: String((f.properties as Record<string, unknown>)?.kind ?? ""), coordinates: geometryVertices(f.geometry as { type: string; coordinates?: unknown }) })));
-    return horizonEvidencePoints(cores, interps);
-  }, [map.overlays]);
+  const evidence = useMemo(() => evidenceFromOverlays(map.overlays), [map.overlays]);
   const compareArg = useMemo(() => (compare ? { content: compare.content, topN: 2000 } : null), [compare]);
   const live = useLiveScoring({ reconstruction: r, content, target, evidence, compare: compareArg });
 

@@ -18,3 +18,13 @@ export const test = base.extend({
   },
 });
 export { expect };
+
+/** Waits until the demo's seeded reconstruction is published (it is queued at seed) and returns its id. */
+export async function demoReconstructionPublished(page: import("@playwright/test").Page): Promise<string> {
+  await page.goto("/");
+  await page.getByRole("link", { name: /Corrastan Shelf/ }).click();
+  await page.getByRole("navigation", { name: "Project" }).getByRole("link", { name: "Reconstructions" }).click();
+  await page.getByRole("link", { name: "Demo: last deglaciation" }).click();
+  await expect(page.getByTestId("reconstruction")).toHaveAttribute("data-status", "published", { timeout: 120_000 });
+  return /\/reconstructions\/(\d+)/.exec(page.url())![1];
+}

@@ -7,7 +7,7 @@ import net from "node:net";
 import path from "node:path";
 import pg from "pg";
 import type { Browser, Page } from "@playwright/test";
-import { test, expect, stateFor } from "./fixtures";
+import { test, expect, stateFor, demoReconstructionPublished } from "./fixtures";
 import type { Role } from "../../app/permissions";
 
 const root = path.resolve(import.meta.dirname, "../..");
@@ -49,6 +49,8 @@ test.describe("a weighing session with two members", () => {
     const lead = await openAs(browser, "lead", baseURL!);
     const analyst = await openAs(browser, "analyst", baseURL!);
     try {
+      // the disagreement map scores the demo's reconstruction: wait until it is published
+      await demoReconstructionPublished(lead.page);
       const projectId = await demoProjectId(lead.page);
       const id = await startSession(lead.page, projectId, "Two windows");
       const url = `/projects/${projectId}/weighing/${id}`;
@@ -77,6 +79,16 @@ test.describe("a weighing session with two members", () => {
       await lead.page.getByRole("button", { name: "Post" }).click();
       await expect(analyst.page.getByTestId("discussion")).toContainText("Forty is too much", { timeout: 30_000 });
       expect(Number(await analyst.page.getByTestId("weighing-room").getAttribute("data-last-seq"))).toBeGreaterThan(seq);
+
+      // with two proposals the disagreement map is scored in the lead's browser, and follows the
+      // analyst's next change without a reload
+      await lead.page.getByRole("button", { name: "Make my proposal" }).click();
+      const spread = lead.page.getByTestId("disagreement-map");
+      await expect(spread).toHaveAttribute("data-checksums", /^[0-9a-f]+,[0-9a-f]+$/, { timeout: 60_000 });
+      const drawn = (await spread.getAttribute("data-checksums"))!;
+      await expect(lead.page.getByRole("table", { name: /top \d+ cells in common/i })).toBeVisible();
+      await analyst.page.getByLabel("My weight for Distance to a stream").fill("5");
+      await expect(spread).not.toHaveAttribute("data-checksums", drawn, { timeout: 60_000 });
     } finally {
       await lead.context.close();
       await analyst.context.close();

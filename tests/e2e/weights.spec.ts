@@ -1,19 +1,14 @@
 import type { Locator, Page } from "@playwright/test";
-import { test, expect, stateFor } from "./fixtures";
+import { test, expect, stateFor, demoReconstructionPublished } from "./fixtures";
 
 // The weighing page of the demo (scripts/demo/demo-weight-sets.ts): "Estuary foragers" (v2 adopted)
 // and its fork "Valley hunters".
 
 /** Opens a demo weight set beside the map and waits until its potential has been drawn. */
 async function openWeightSet(page: Page, name: string): Promise<{ map: Locator; status: Locator }> {
-  await page.goto("/");
-  await page.getByRole("link", { name: /Corrastan Shelf/ }).click();
-  const rail = page.getByRole("navigation", { name: "Project" });
   // the seeded reconstruction must be published before anything can be scored
-  await rail.getByRole("link", { name: "Reconstructions" }).click();
-  await page.getByRole("link", { name: "Demo: last deglaciation" }).click();
-  await expect(page.getByTestId("reconstruction")).toHaveAttribute("data-status", "published", { timeout: 120_000 });
-  const reconstructionId = /\/reconstructions\/(\d+)/.exec(page.url())![1];
+  const reconstructionId = await demoReconstructionPublished(page);
+  const rail = page.getByRole("navigation", { name: "Project" });
   await rail.getByRole("link", { name: "Weights", exact: true }).click();
   await page.getByRole("link", { name, exact: true }).first().click();
   await expect(page.getByTestId("weighing-page")).toBeVisible();

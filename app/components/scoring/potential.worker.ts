@@ -10,7 +10,7 @@ import { shelterIndex } from "~/scoring/shelter";
 import { classLayer } from "~/scoring/scoring-inputs";
 import { factorDef } from "~/scoring/factors";
 import { ScoringInputError } from "~/scoring/errors";
-import { differenceRgba, potentialRgba } from "./render";
+import { differenceRgba, potentialRgba, spreadRgba } from "./render";
 import { layerKey, type FromWorker, type ToWorker } from "./protocol";
 
 const layers = new Map<string, LayerData>();
@@ -117,6 +117,57 @@ self.onmessage = (ev: MessageEvent<ToWorker>) => {
           ms,
         },
         // the potential and mask may live in the cache's scratch: they are copied, the picture moved
+        [rgba.buffer],
+      );
+    } catch (e) {
+      fail(msg.id, e);
+    }
+    return;
+  }
+  if (msg.type === "disagree") {
+    try {
+      const t0 = performance.now();
+      const { grid } = msg;
+      const ev = stableEvidence(msg.evidence);
+      const maps = msg.contents.map((c) => scoreTarget(c, grid, msg.agesKa, msg.target, source, ev, compareCache).potential.slice());
+      const n = grid.width * grid.height;
+      const spread = new Float32Array(n);
+      let cells = 0;
+      let sumSpread = 0;
+      let maxSpread = 0;
+      for (let i = 0; i < n; i++) {
+        let mean = 0;
+        let ok = maps.length > 0;
+        for (let k = 0; k < maps.length; k++) {
+          const v = maps[k][i];
+          if (v !== v) { ok = false; break; }
+          mean += v;
+        }
+        if (!ok) { spread[i] = NaN; continue; }
+        mean /= maps.length;
+        let ss = 0;
+        for (let k = 0; k < maps.length; k++) ss += (maps[k][i] - mean) ** 2;
+        // population standard deviation across the proposals (each member counts once)
+        const sd = Math.sqrt(ss / maps.length);
+        spread[i] = sd;
+        cells++;
+        sumSpread += sd;
+        if (sd > maxSpread) maxSpread = sd;
+      }
+      const scaleTop = Math.max(0.05, maxSpread);
+      const rgba = spreadRgba(spread, scaleTop);
+      const topShare = maps.map((a, i) =>
+        maps.map((b, j) => {
+          if (i === j) return 1;
+          try {
+            return topCellsInCommon(a, b, Math.min(msg.topN, cells)).share;
+          } catch {
+            return null;
+          }
+        }),
+      );
+      post(
+        { type: "disagreed", id: msg.id, width: grid.width, height: grid.height, rgba, maxSpread: scaleTop, meanSpread: cells ? sumSpread / cells : null, cells, topShare, topN: Math.min(msg.topN, cells), checksums: maps.map(potentialChecksum), ms: performance.now() - t0 },
         [rgba.buffer],
       );
     } catch (e) {

@@ -39,7 +39,18 @@ export type ToWorker =
       /** a second weight set to compare with: the picture becomes the difference (this − other) */
       compare?: { content: WeightSetContent; topN: number } | null;
     }
-  | { type: "correlate"; id: number; grid: WorkerGrid; ageKa: number; factors: FactorId[]; shelterRadiusM: number };
+  | { type: "correlate"; id: number; grid: WorkerGrid; ageKa: number; factors: FactorId[]; shelterRadiusM: number }
+  | {
+      /** several proposals at once: the per-cell spread of their potentials and the top-N overlap of each pair */
+      type: "disagree";
+      id: number;
+      grid: WorkerGrid;
+      agesKa: number[];
+      contents: WeightSetContent[];
+      target: ScoreTarget;
+      evidence: EvidencePoint[];
+      topN: number;
+    };
 
 export interface ScoredMessage {
   type: "scored";
@@ -61,7 +72,26 @@ export interface ScoredMessage {
   ms: number;
 }
 
+export interface DisagreedMessage {
+  type: "disagreed";
+  id: number;
+  width: number;
+  height: number;
+  /** the spread (standard deviation of potential across the proposals) as a picture, 0 → white, ≥ maxSpread → dark orange */
+  rgba: Uint8ClampedArray;
+  maxSpread: number;
+  /** mean spread over the cells every proposal scores, and how many such cells */
+  meanSpread: number | null;
+  cells: number;
+  /** topShare[i][j]: share of the top-N cells proposals i and j have in common (1 on the diagonal) */
+  topShare: Array<Array<number | null>>;
+  topN: number;
+  checksums: string[];
+  ms: number;
+}
+
 export type FromWorker =
   | ScoredMessage
+  | DisagreedMessage
   | { type: "correlated"; id: number; factors: FactorId[]; pearson: number[][]; spearman: number[][]; samples: number }
   | { type: "error"; id: number; message: string; field?: string };

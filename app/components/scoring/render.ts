@@ -80,3 +80,22 @@ export function differenceRgba(a: Float32Array, b: Float32Array, width: number, 
   }
   return res;
 }
+
+/** RGBA of a spread (≥ 0) on the warm half of the diverging scale: 0 near-white, ≥ top dark orange; NaN transparent. O(n). */
+export function spreadRgba(spread: Float32Array, top: number, out?: Uint8ClampedArray): Uint8ClampedArray {
+  const t = lut("diverging");
+  const res = out ?? new Uint8ClampedArray(spread.length * 4);
+  const half = (STEPS - 1) / 2;
+  for (let i = 0; i < spread.length; i++) {
+    const o = i * 4;
+    const v = spread[i];
+    if (v === v) {
+      const k = Math.round(half + Math.min(1, v / top) * half) * 3;
+      res[o] = t[k];
+      res[o + 1] = t[k + 1];
+      res[o + 2] = t[k + 2];
+      res[o + 3] = 255;
+    } else res[o + 3] = 0;
+  }
+  return res;
+}

@@ -47,6 +47,20 @@ export function layersNeeded(r: Reconstruction, contents: WeightSetContent[], ta
   return [...out.values()];
 }
 
+/** Post to the worker every loaded layer it does not hold yet (once per array and key). */
+export function sendNewLayers(w: Worker, needed: Array<{ layer: string; ageKa: number | null }>, data: Array<DisplayRaster | undefined>, sent: Map<string, DisplayRaster>) {
+  const batch: Extract<ToWorker, { type: "layers" }>["layers"] = [];
+  needed.forEach((n, i) => {
+    const d = data[i];
+    if (!d) return;
+    const key = layerKey(n.layer, n.ageKa);
+    if (sent.get(key) === d) return;
+    sent.set(key, d);
+    batch.push({ key, raster: { width: d.width, height: d.height, scale: d.scale, offset: d.offset, nodataCode: d.nodataCode, codes: d.codes } });
+  });
+  if (batch.length) w.postMessage({ type: "layers", layers: batch } satisfies ToWorker);
+}
+
 export type Correlations = Extract<FromWorker, { type: "correlated" }>;
 
 export interface LiveScore {
@@ -74,7 +88,6 @@ export function useLiveScoring(opts: {
   const layerError = results.find((q) => q.isError)?.error?.message ?? null;
 
   const worker = useRef<Worker | null>(null);
-  const sent = useRef(new WeakSet<DisplayRaster>());
   const sentKeys = useRef(new Map<string, DisplayRaster>());
   const nextId = useRef(1);
   const inFlight = useRef<number | null>(null);
@@ -125,19 +138,7 @@ export function useLiveScoring(opts: {
   const allLoaded = loading === 0 && !layerError;
   const loadedTag = results.map((q) => (q.data ? 1 : 0)).join("");
   useEffect(() => {
-    const w = worker.current;
-    if (!w) return;
-    const batch: Extract<ToWorker, { type: "layers" }>["layers"] = [];
-    needed.forEach((n, i) => {
-      const d = results[i]?.data;
-      if (!d || sent.current.has(d)) return;
-      const key = layerKey(n.layer, n.ageKa);
-      if (sentKeys.current.get(key) === d) return;
-      sent.current.add(d);
-      sentKeys.current.set(key, d);
-      batch.push({ key, raster: { width: d.width, height: d.height, scale: d.scale, offset: d.offset, nodataCode: d.nodataCode, codes: d.codes } });
-    });
-    if (batch.length) w.postMessage({ type: "layers", layers: batch } satisfies ToWorker);
+    if (worker.current) sendNewLayers(worker.current, needed, results.map((q) => q.data), sentKeys.current);
   }, [loadedTag, needed]);
 
   // Ask for a new picture on every change, once the layers are there.
