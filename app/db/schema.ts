@@ -574,3 +574,58 @@ export const exclusionSettings = pgTable("exclusion_settings", {
   updatedBy: integer("updated_by").references(() => users.id, { onDelete: "set null" }),
   updatedAt: timestamp("updated_at", { withTimezone: true }).notNull().defaultNow(),
 });
+
+export const targetListStatus = pgEnum("target_list_status", ["draft", "published"]);
+export const targetStatus = pgEnum("target_status", ["planned", "cored", "result"]);
+
+/**
+ * A list of core targets (design §6, issue 11): made from a scoring or a model under constraints
+ * and selection modes, ordered into a cruise plan; publishing (a lead) freezes it — the targets
+ * then only move planned → cored → result.
+ */
+export const targetLists = pgTable(
+  "target_lists",
+  {
+    id: serial("id").primaryKey(),
+    projectId: integer("project_id").notNull().references(() => projects.id, { onDelete: "cascade" }),
+    name: text("name").notNull(),
+    /** what the targets were ranked on: { kind: "scoring" | "model", id } */
+    source: jsonb("source").$type<Record<string, unknown>>().notNull(),
+    /** constraints, selection modes, cruise settings */
+    params: jsonb("params").$type<Record<string, unknown>>().notNull(),
+    /** the cruise plan: order, legs, times, cores that fit the ship days */
+    plan: jsonb("plan").$type<Record<string, unknown> | null>(),
+    status: targetListStatus("status").notNull().default("draft"),
+    /** SHA-256 of the canonical JSON of the targets and plan when published */
+    publishedHash: text("published_hash"),
+    publishedBy: integer("published_by").references(() => users.id, { onDelete: "set null" }),
+    publishedAt: timestamp("published_at", { withTimezone: true }),
+    createdBy: integer("created_by").references(() => users.id, { onDelete: "set null" }),
+    createdAt: createdAt(),
+  },
+  (t) => [index("target_lists_project_idx").on(t.projectId, t.createdAt)],
+);
+
+/** One core target of a list: where, why, and what happened when it was cored. */
+export const targets = pgTable(
+  "targets",
+  {
+    id: serial("id").primaryKey(),
+    listId: integer("list_id").notNull().references(() => targetLists.id, { onDelete: "cascade" }),
+    rank: integer("rank").notNull(),
+    waypoint: text("waypoint").notNull(),
+    /** project CRS, m */
+    x: doublePrecision("x").notNull(),
+    y: doublePrecision("y").notNull(),
+    lon: doublePrecision("lon").notNull(),
+    lat: doublePrecision("lat").notNull(),
+    /** selection mode (best, transect, control, learn), depths, TWT, nearest line, penetration, exclusions nearby, ages land, score, contributions */
+    detail: jsonb("detail").$type<Record<string, unknown>>().notNull(),
+    status: targetStatus("status").notNull().default("planned"),
+    /** the core record of design §2 once cored, and the result (archaeological material, horizon reached, preserved surface) */
+    core: jsonb("core").$type<Record<string, unknown> | null>(),
+    updatedBy: integer("updated_by").references(() => users.id, { onDelete: "set null" }),
+    updatedAt: timestamp("updated_at", { withTimezone: true }).notNull().defaultNow(),
+  },
+  (t) => [uniqueIndex("targets_list_rank_key").on(t.listId, t.rank)],
+);
