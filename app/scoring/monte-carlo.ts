@@ -221,8 +221,9 @@ export interface DrawBlock {
  * contested, robust low p ≤ 0.2, scored so far; p = high draws / all draws so far).
  *
  * Cells outer, draws inner: the block's weights (draws × k) stay in cache while each cell's k scores
- * sit in a small scratch. Preconditions: as DrawBlock; `scratch` of length ≥ k. O((end − start)·(to −
- * from)·k), no allocation.
+ * sit in locals (up to 8 factors: weights padded to 8 columns, the sum written out; more: a loop).
+ * Preconditions: as DrawBlock; `scratch` of length ≥ k. O((end − start)·(to − from)·k); one
+ * allocation per call (the padded weights), none per cell.
  */
 export function accumulateDraws(b: DrawBlock, acc: Accumulators, start: number, end: number, conv: Float64Array, scratch: Float64Array): void {
   const k = b.scores.length;
@@ -239,6 +240,11 @@ export function accumulateDraws(b: DrawBlock, acc: Accumulators, start: number, 
   while (cpFirst < cps.length && cps[cpFirst] <= from) cpFirst++;
   let cpEnd = cpFirst;
   while (cpEnd < cps.length && cps[cpEnd] <= to) cpEnd++;
+  let W8: Float64Array | null = null;
+  if (k <= 8 && k > 0) {
+    W8 = new Float64Array((to - from) * 8);
+    for (let d = from; d < to; d++) for (let f = 0; f < k; f++) W8[(d - from) * 8 + f] = W[d * k + f];
+  }
   for (let i = start; i < end; i++) {
     const c = lc[i];
     let ok = c === 0 || c === 2;
@@ -276,11 +282,20 @@ export function accumulateDraws(b: DrawBlock, acc: Accumulators, start: number, 
     let sum = 0;
     let sumSq = 0;
     let q = cpFirst;
-    let row = from * k;
+    let row = 0;
+    // up to 8 factors: the block's weights padded to 8 columns, the sum written out in full
+    const s0 = scratch[0], s1 = k > 1 ? scratch[1] : 0, s2 = k > 2 ? scratch[2] : 0, s3 = k > 3 ? scratch[3] : 0;
+    const s4 = k > 4 ? scratch[4] : 0, s5 = k > 5 ? scratch[5] : 0, s6 = k > 6 ? scratch[6] : 0, s7 = k > 7 ? scratch[7] : 0;
     for (let d = from; d < to; d++) {
-      let occ = 0;
-      for (let f = 0; f < k; f++) occ += W[row + f] * scratch[f];
-      row += k;
+      let occ: number;
+      if (W8 !== null) {
+        occ = W8[row] * s0 + W8[row + 1] * s1 + W8[row + 2] * s2 + W8[row + 3] * s3 + W8[row + 4] * s4 + W8[row + 5] * s5 + W8[row + 6] * s6 + W8[row + 7] * s7;
+        row += 8;
+      } else {
+        occ = 0;
+        const r0 = d * k;
+        for (let f = 0; f < k; f++) occ += W[r0 + f] * scratch[f];
+      }
       const v = Math.fround(Math.fround(occ) * p);
       if (v >= t32) h++;
       const dv = v - shift;
