@@ -1,12 +1,8 @@
+import { CAUTIONS } from "../cautions";
+
 /** The standing cautions of design §10, shown wherever results may be acted on. */
 export function Cautions({ compact = false }: { compact?: boolean }) {
-  const items = [
-    "Model output is a planning aid: a low score is not evidence of absence.",
-    "Fieldwork and reporting follow local heritage law and licensed archaeological practice.",
-    "Seabed work needs an unexploded-ordnance risk assessment before any coring.",
-    "Human remains mean stopping work and notifying the competent authority.",
-    "Descendant and Indigenous communities are consulted under the applicable rules.",
-  ];
+  const items = CAUTIONS;
   return (
     <aside
       aria-label="Cautions"
