@@ -17,7 +17,7 @@ import { closeSession, getSession, startSession } from "./weighing-sessions.serv
 type Verdict = "allow" | "refuse";
 type Expect = Partial<Record<Who, Verdict>> & { default: Verdict };
 interface Probe {
-  method: "GET" | "POST" | "PATCH" | "DELETE";
+  method: "GET" | "POST" | "PUT" | "PATCH" | "DELETE";
   path: (w: World) => string;
   params?: (w: World) => Record<string, string>;
   /** Params made fresh for each caller (for probes that delete what they are sent to). */
@@ -233,6 +233,21 @@ const MATRIX: Record<string, Probe[]> = {
     // The probe scoring never ran: members get 409 (not published), which is past the gate.
     { method: "GET", path: () => `/api/scorings/x/raster/potential`, params: () => ({ id: String(scoringId), name: "potential" }), expect: projectPage([...MEMBERS, "viewerToken"]) },
     { method: "POST", path: () => `/api/scorings/x/raster/potential`, params: () => ({ id: String(scoringId), name: "potential" }), options: { json: {} }, expect: projectPage([...MEMBERS, "viewerToken"]) },
+  ],
+  "routes/project-validation.tsx": [{ method: "GET", path: (w) => `/projects/${w.projectId}/validation`, params: pid, expect: projectPage(MEMBERS) }],
+  // The probe scoring never ran: members get 409 (not published), past the gate.
+  "routes/api.scoring-validation.ts": [
+    { method: "GET", path: () => `/api/scorings/x/validation`, params: () => ({ id: String(scoringId) }), expect: projectPage([...MEMBERS, "viewerToken"]) },
+    { method: "POST", path: () => `/api/scorings/x/validation`, params: () => ({ id: String(scoringId) }), options: { json: {} }, expect: projectPage([...MEMBERS, "viewerToken"]) },
+  ],
+  "routes/api.project-classification.ts": [
+    { method: "GET", path: (w) => `/api/projects/${w.projectId}/classification`, params: pid, expect: projectPage([...MEMBERS, "viewerToken"]) },
+    { method: "PUT", path: (w) => `/api/projects/${w.projectId}/classification`, params: pid, options: { json: {} }, expect: projectPage(["owner", "lead"]) },
+  ],
+  "routes/api.project-holdout.ts": [
+    { method: "GET", path: (w) => `/api/projects/${w.projectId}/holdout`, params: pid, expect: projectPage(["owner", "lead"]) },
+    { method: "PUT", path: (w) => `/api/projects/${w.projectId}/holdout`, params: pid, options: { json: {} }, expect: projectPage(["owner", "lead"]) },
+    { method: "POST", path: (w) => `/api/projects/${w.projectId}/holdout`, params: pid, options: { json: {} }, expect: projectPage(["owner", "lead"]) },
   ],
 };
 

@@ -3,7 +3,7 @@
 // learns nothing about whether the resource exists.
 import { eq } from "drizzle-orm";
 import { db } from "./db.server";
-import { datasets, jobRuns, reconstructions, scorings, weightSets } from "./db/schema";
+import { datasets, jobRuns, models, reconstructions, scorings, weightSets } from "./db/schema";
 import { requireProjectAccess } from "./permissions.server";
 import { requireIdentity } from "./auth.server";
 import { refusal } from "./security.server";
@@ -51,4 +51,10 @@ export async function requireWeightSetAccess(request: Request, idParam: string |
 export async function requireScoringAccess(request: Request, idParam: string | undefined, capability: Capability) {
   const access = await requireResourceAccess(request, idParam, NUMERIC, async (id) => (await db().select({ p: scorings.projectId }).from(scorings).where(eq(scorings.id, Number(id))))[0]?.p, capability, "no_such_scoring", "scoring");
   return { ...access, scoringId: Number(idParam) };
+}
+
+/** A trained model: members with models.read only (viewers get 403 — a model peaks on exact site positions). */
+export async function requireModelAccess(request: Request, idParam: string | undefined, capability: Capability) {
+  const access = await requireResourceAccess(request, idParam, NUMERIC, async (id) => (await db().select({ p: models.projectId }).from(models).where(eq(models.id, Number(id))))[0]?.p, capability, "no_such_model", "model");
+  return { ...access, modelId: Number(idParam) };
 }

@@ -22,12 +22,14 @@ export interface Viewer {
   role: Role;
 }
 
-async function custodianFor(projectId: number, userId: number): Promise<string | null> {
+/** The community this member is custodian for in the project, or null. */
+export async function custodianFor(projectId: number, userId: number): Promise<string | null> {
   const [m] = await db().select({ c: memberships.custodianFor }).from(memberships).where(and(eq(memberships.projectId, projectId), eq(memberships.userId, userId)));
   return m?.c ?? null;
 }
 
-function sees(row: SiteRow, viewer: Viewer, community: string | null): "exact" | "generalised" | "none" {
+/** How exactly this viewer sees a record (the one rule; validation and every other reader use it). */
+export function sees(row: Pick<SiteRow, "visibility" | "community">, viewer: Viewer, community: string | null): "exact" | "generalised" | "none" {
   const isCustodian = community !== null && row.community !== null && community === row.community;
   if (row.visibility === "withheld") return isCustodian ? "exact" : "none";
   if (row.visibility === "restricted") return isCustodian || viewer.role === "owner" || viewer.role === "lead" ? "exact" : "generalised";

@@ -5,11 +5,13 @@ import { testJobsEnabled } from "./boss.server";
 import { testSleepJob } from "./test-sleep";
 import { reconstructionJob } from "./reconstruction";
 import { scoringJob } from "./scoring";
+import { modelJob } from "./model";
 import type { JobDefinition } from "./wrapper";
 
 export const JOB_REGISTRY: Record<string, JobDefinition<any>> = {
   [reconstructionJob.kind]: reconstructionJob,
   [scoringJob.kind]: scoringJob,
+  [modelJob.kind]: modelJob,
 };
 
 if (testJobsEnabled()) JOB_REGISTRY[testSleepJob.kind] = testSleepJob;

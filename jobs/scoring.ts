@@ -12,9 +12,7 @@ import { createHash } from "node:crypto";
 import { and, eq, inArray } from "drizzle-orm";
 import { db } from "../app/db.server";
 import { datasets, projects, reconstructions, scorings } from "../app/db/schema";
-import { getJson, ObjectNotFound, store } from "../app/storage.server";
-import { layerKey } from "../app/reconstructions.server";
-import { layerGrid } from "../app/layers.server";
+import { getJson, store } from "../app/storage.server";
 import { quantise } from "../app/raster-display";
 import { UserError } from "../app/errors";
 import { writeGeoTiff } from "../app/terrain/geotiff-write";
@@ -50,6 +48,7 @@ import {
   type ScoringTarget,
 } from "../app/scorings.server";
 import { defineJob, isUserError, JobUserError } from "./wrapper";
+import { layerId, loadReconstructionLayers, wantLayer, type WantedLayer } from "./reconstruction-layers";
 
 export interface ScoringPayload {
   scoringId: number;
@@ -71,18 +70,6 @@ const PRESERVATION_LAYERS = ["tpi", "rise_rate_at_flooding", "flooding_age", "fl
 const CAUTION =
   "A planning aid, not evidence: a low score is not evidence of absence, and unassessed ground is unknown, not low. " +
   "Fieldwork follows local heritage law and licensed archaeological practice.";
-
-/** One reconstruction layer as read (Float32, NaN nodata; class layers too, as readGeoTiff returns them). */
-interface LoadedLayer {
-  name: string;
-  ageKa: number | null;
-  values: Float32Array;
-}
-
-/** Raised inside the loader for a layer the manifest lists but storage no longer has. */
-function missingLayer(name: string, ageKa: number | null) {
-  return new JobUserError(`The reconstruction's layer ${name}${ageKa === null ? "" : ` at ${ageKa} ka`} is missing from storage; run the reconstruction again, then score it.`);
-}
 
 function sha256(bytes: Uint8Array | Uint16Array | Float32Array): string {
   return createHash("sha256").update(new Uint8Array(bytes.buffer, bytes.byteOffset, bytes.byteLength)).digest("hex");
@@ -217,10 +204,8 @@ export const scoringJob = defineJob<ScoringPayload>("scoring", async (ctx) => {
       if (e instanceof ScoringInputError) throw new JobUserError(e.message);
       throw e;
     }
-    const wanted: { name: string; ageKa: number | null }[] = [];
-    const want = (name: string, ageKa: number | null) => {
-      if (!wanted.some((w) => w.name === name && w.ageKa === ageKa)) wanted.push({ name, ageKa });
-    };
+    const wanted: WantedLayer[] = [];
+    const want = (name: string, ageKa: number | null) => wantLayer(wanted, name, ageKa);
     for (const a of needAges) want("land_class", a);
     // Factor layers only at the ages the target scores (a period's ages of positive weight).
     for (const a of scored) {
@@ -235,24 +220,8 @@ export const scoringJob = defineJob<ScoringPayload>("scoring", async (ctx) => {
       for (const a of manifest.agesKa) want("land_class", a);
     }
 
-    const loaded = new Map<string, LoadedLayer>();
-    const idOf = (name: string, ageKa: number | null) => `${name}@${ageKa}`;
-    for (const [k, w] of wanted.entries()) {
-      ctx.throwIfCancelled();
-      const layer = manifest.layers.find((l) => l.name === w.name && (l.ageKa ?? null) === w.ageKa);
-      if (layer) {
-        let values: Float32Array;
-        try {
-          values = (await layerGrid(layerKey(rec, w.name, w.ageKa)!, manifest, layer)).data;
-        } catch (e) {
-          if (e instanceof ObjectNotFound) throw missingLayer(w.name, w.ageKa);
-          throw e;
-        }
-        if (values.length !== n) throw new JobUserError(`The reconstruction's layer ${w.name}${w.ageKa === null ? "" : ` at ${w.ageKa} ka`} does not match its grid (${values.length} cells, not ${n}).`);
-        loaded.set(idOf(w.name, w.ageKa), { name: w.name, ageKa: w.ageKa, values });
-      }
-      ctx.progress(0.02 + 0.45 * ((k + 1) / wanted.length), "reading layers");
-    }
+    const loaded = await loadReconstructionLayers(ctx, rec, manifest, wanted, { from: 0.02, to: 0.47, what: "score it" });
+    const idOf = layerId;
 
     ctx.progress(0.48, "reading horizon evidence");
     const evidence = content.preservation.enabled ? await evidenceFromDatasets(s.projectId) : { points: [], datasets: [] };

@@ -1,0 +1,43 @@
+// GET /api/models/:id/raster — a published model's probability raster as a GeoTIFF download
+// (project CRS, Float32, NaN off the model age's land). ?display=8 — a quantised copy for the map,
+// exactly as the layer API sends one: raw codes, row-major, with X-Lowstand-Width/Height/Scale/
+// Offset/Nodata-Code headers (value = code × scale + offset). models.read only: a viewer gets 403.
+import { requireModelAccess } from "~/resource-access.server";
+import { modelRasterBytes, modelRasterFileName } from "~/models.server";
+import { quantise } from "~/raster-display";
+import { readGeoTiff } from "~/terrain/geotiff-read";
+import { apiError } from "~/security.server";
+import { apiAction, methodNotAllowed } from "~/route-helpers.server";
+import type { Route } from "./+types/api.model-raster";
+
+const PRIVATE = "private, no-store";
+
+export async function loader({ request, params }: Route.LoaderArgs) {
+  const { modelId, project } = await requireModelAccess(request, params.id, "models.read");
+  const display = new URL(request.url).searchParams.get("display");
+  if (display !== null && display !== "8") return apiError(400, "bad_display", "display must be 8 (bits).");
+  return apiAction(async () => {
+    const { model, bytes } = await modelRasterBytes(modelId);
+    if (display === null)
+      return new Response(new Uint8Array(bytes), { headers: { "Content-Type": "image/tiff", "Content-Disposition": `attachment; filename="${modelRasterFileName(project, model.id, model.params ? (model.params as { ageKa: number }).ageKa : 0)}"`, "Cache-Control": PRIVATE } });
+    const grid = (await readGeoTiff(new Uint8Array(bytes))).grid;
+    const q = quantise(grid.data, "NaN", 8);
+    return new Response(new Uint8Array(q.data.buffer as ArrayBuffer, q.data.byteOffset, q.data.byteLength), {
+      headers: {
+        "Content-Type": "application/octet-stream",
+        "X-Lowstand-Width": String(grid.spec.width),
+        "X-Lowstand-Height": String(grid.spec.height),
+        "X-Lowstand-Scale": String(q.scale),
+        "X-Lowstand-Offset": String(q.offset),
+        "X-Lowstand-Nodata-Code": String(q.nodataCode),
+        "X-Lowstand-Units": encodeURIComponent("probability of presence (share of trees)"),
+        "Cache-Control": PRIVATE,
+      },
+    });
+  });
+}
+
+export async function action({ request, params }: Route.ActionArgs) {
+  await requireModelAccess(request, params.id, "models.read");
+  return methodNotAllowed(["GET"]);
+}

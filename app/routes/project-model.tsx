@@ -1,0 +1,101 @@
+// One trained model: progress while it trains (refreshed every second), then its card — inputs,
+// sample counts, parameters, out-of-fold AUC and gain with their spread, training time — and the
+// probability raster's download. A refusal shows the numbers the job counted. models.read only.
+import { useEffect } from "react";
+import { Link, useRevalidator } from "react-router";
+import { requireProjectAccess } from "~/permissions.server";
+import { getModel, modelView } from "~/models.server";
+import { refusal } from "~/security.server";
+import { StatusBadge } from "~/components/StatusBadge";
+import { Cautions } from "~/components/Cautions";
+import { ModelCardView, type CardJson } from "~/components/models/ModelCardView";
+import { ModelRefusal, type RefusalNumbers } from "~/components/models/ModelRefusal";
+import type { Route } from "./+types/project-model";
+
+export const meta = ({ data }: Route.MetaArgs) => [{ title: `${data?.model.name ?? "Model"} · Lowstand` }];
+
+export async function loader({ request, params }: Route.LoaderArgs) {
+  const { project } = await requireProjectAccess(request, params.projectId, "models.read");
+  const id = /^\d{1,9}$/.test(params.modelId) ? Number(params.modelId) : NaN;
+  const m = Number.isFinite(id) ? await getModel(id) : null;
+  if (!m || m.projectId !== project.id) throw refusal(request, 404, "no_such_model", "There is no such model in this project.");
+  return { projectId: project.id, model: modelView(m) };
+}
+
+export default function ProjectModel({ loaderData }: Route.ComponentProps) {
+  const { projectId, model } = loaderData;
+  const revalidator = useRevalidator();
+  const running = model.status === "running";
+  useEffect(() => {
+    if (!running) return;
+    const t = setInterval(() => {
+      if (revalidator.state === "idle") void revalidator.revalidate();
+    }, 1000);
+    return () => clearInterval(t);
+  }, [running, revalidator]);
+  const card = model.card as (CardJson & { refused?: undefined }) | (RefusalNumbers & { refused: boolean }) | null;
+  const refusedNumbers = card && "refused" in card && card.refused ? (card as RefusalNumbers) : null;
+  const fullCard = card && model.status === "published" && "method" in card ? (card as CardJson) : null;
+  const result = model.result as { classes?: { label: string; areaKm2: number; share: number }[]; probability?: { areaKm2: number; mean: number | null } } | null;
+  return (
+    <div className="max-w-5xl space-y-5">
+      <p className="text-sm">
+        <Link className="underline" to={`/projects/${projectId}/models`}>
+          Models
+        </Link>
+      </p>
+      <div className="flex flex-wrap items-center gap-3">
+        <h1 className="text-2xl font-semibold">{model.name}</h1>
+        <StatusBadge status={model.status} progress={model.progress} />
+      </div>
+      <p className="text-sm text-sediment-700">
+        Probability of presence at {model.ageKa} ka on {model.reconstruction.name || `reconstruction ${model.reconstruction.id}`}
+        {model.job?.step && running ? ` — ${model.job.step}` : ""}.
+      </p>
+      {running ? (
+        <div className="h-2 w-full max-w-md rounded-sm bg-sand-200" role="progressbar" aria-valuenow={Math.round(model.progress * 100)} aria-valuemin={0} aria-valuemax={100} aria-label="Training">
+          <div className="h-2 rounded-sm bg-deep-500" style={{ width: `${Math.round(model.progress * 100)}%` }} />
+        </div>
+      ) : null}
+      {model.status === "failed" ? (
+        refusedNumbers ? (
+          <ModelRefusal message={model.error ?? ""} numbers={refusedNumbers} />
+        ) : (
+          <p role="alert" className="rounded-md border border-caution-600 bg-white p-3 text-sm text-caution-800">
+            {model.error ?? "The model could not be trained."}
+          </p>
+        )
+      ) : null}
+      {fullCard ? (
+        <>
+          <ModelCardView card={fullCard} />
+          {result?.classes ? (
+            <section aria-labelledby="raster-classes" className="rounded-md border border-sand-200 bg-white p-4 text-sm">
+              <h2 id="raster-classes" className="font-semibold">
+                The probability raster
+              </h2>
+              <p className="mt-1 text-xs text-sediment-600">Land at {model.ageKa} ka by the project's classes; the probability is relative to searched ground.</p>
+              <table className="mt-1">
+                <tbody>
+                  {result.classes.map((c) => (
+                    <tr key={c.label}>
+                      <td className="pr-4">{c.label}</td>
+                      <td className="pr-4 tabular-nums">{c.areaKm2.toFixed(2)} km²</td>
+                      <td className="tabular-nums">{(c.share * 100).toFixed(1)} %</td>
+                    </tr>
+                  ))}
+                </tbody>
+              </table>
+              {model.downloads.map((d) => (
+                <a key={d.name} className="mt-2 inline-block underline" href={d.href}>
+                  Download the probability GeoTIFF
+                </a>
+              ))}
+            </section>
+          ) : null}
+        </>
+      ) : null}
+      <Cautions compact />
+    </div>
+  );
+}

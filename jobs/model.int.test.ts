@@ -1,0 +1,309 @@
+// Trained models end to end with the real database, pg-boss and a worker process: a small invented
+// shelf is reconstructed, then invented sites (in situ, derived), cores (with and without
+// archaeological material) and survey lines are uploaded on its land at 12 ka; a model is trained
+// over the API and published with its card and fold metrics; derived finds and negative cores never
+// enter training; too few sites are refused with the count before anything is stored; a viewer gets
+// no model, no card and no raster; the reviewer reads the card but may not start one.
+Object.assign(process.env, FAST_JOB_SETTINGS, { LOWSTAND_WORKER_SHUTDOWN_GRACE_MS: "3000", LOWSTAND_ENGINE_THREADS: "0" });
+
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { count, eq } from "drizzle-orm";
+import { db } from "~/db.server";
+import { auditLog, models, reconstructions } from "~/db/schema";
+import { createApiToken } from "~/auth.server";
+import { readGeoTiff } from "~/terrain/geotiff-read";
+import { writeGeoTiff } from "~/terrain/geotiff-write";
+import { resolveCrs } from "~/terrain/crs";
+import { layerGrid } from "~/layers.server";
+import { layerKey } from "~/reconstructions.server";
+import type { Manifest } from "~/terrain/reconstruct";
+import { deserialiseForest } from "~/scoring/forest";
+import { getJson } from "~/storage.server";
+import { syntheticGrid } from "../scripts/bench/synthetic-shelf";
+import * as apiDatasets from "~/routes/api.project-datasets";
+import * as apiRecons from "~/routes/api.project-reconstructions";
+import * as apiModels from "~/routes/api.project-models";
+import * as apiModel from "~/routes/api.model";
+import * as apiRaster from "~/routes/api.model-raster";
+import { stopBoss } from "./boss.server";
+import { buildWorld, callWith, ORIGIN, type World } from "../tests/support/world";
+import { FAST_JOB_SETTINGS, startWorker, stopWorkers, waitFor } from "../tests/support/workers";
+
+let world: World;
+let token: string;
+let reviewerToken: string;
+
+const ORIGIN_X = 480_000;
+const ORIGIN_Y = 5_030_000;
+const CELL = 50;
+const SIZE = 48;
+const FACTORS = ["dist_stream", "dist_shoreline", "slope", "tpi", "height_above_sea"];
+/** small enough to train in well under a second per fold */
+const SMALL = { trees: 10, folds: 2, blockSizeM: 600, backgroundCells: 200, minSites: 5, seed: 11 };
+
+function shelfTiff(): Uint8Array {
+  const g = syntheticGrid(SIZE, 7, CELL);
+  const crs = resolveCrs(32733);
+  g.spec = { ...g.spec, originX: ORIGIN_X, originY: ORIGIN_Y, crs: { epsg: crs.epsg, proj4: crs.proj4 } };
+  return writeGeoTiff(g);
+}
+
+async function upload(kind: string, content: string | Uint8Array, fileName: string, extra: Record<string, string> = {}): Promise<number> {
+  const fd = new FormData();
+  Object.entries({ kind, name: fileName, ...extra }).forEach(([k, v]) => fd.set(k, v));
+  fd.set("file", new Blob([typeof content === "string" ? new TextEncoder().encode(content) : new Uint8Array(content)]), fileName);
+  const res = await callWith(apiDatasets.action, new Request(new URL(`/api/projects/${world.projectId}/datasets`, ORIGIN), { method: "POST", body: fd, headers: { Authorization: `Bearer ${token}` } }), { projectId: String(world.projectId) });
+  expect(res.status, await res.clone().text()).toBe(201);
+  return (await res.json()).dataset.id;
+}
+
+const auth = (t = token) => ({ Authorization: `Bearer ${t}` });
+
+async function postModel(body: unknown, t = token) {
+  const res = await callWith(apiModels.action, new Request(new URL(`/api/projects/${world.projectId}/models`, ORIGIN), { method: "POST", body: JSON.stringify(body), headers: { ...auth(t), "Content-Type": "application/json" } }), { projectId: String(world.projectId) });
+  return { status: res.status, body: await res.json() };
+}
+
+async function getModelApi(id: number, t = token) {
+  const res = await callWith(apiModel.loader, new Request(new URL(`/api/models/${id}`, ORIGIN), { headers: auth(t) }), { id: String(id) });
+  return { status: res.status, text: await res.text() };
+}
+
+async function raster(id: number, query = "", t = token) {
+  return callWith(apiRaster.loader, new Request(new URL(`/api/models/${id}/raster${query}`, ORIGIN), { headers: auth(t) }), { id: String(id) });
+}
+
+const modelCount = async () => (await db().select({ n: count() }).from(models))[0].n;
+
+let reconstructionId: number;
+let manifest: Manifest;
+/** invented evidence: what a correct model must count */
+const IN_SITU = 12;
+const DERIVED = 3;
+const POSITIVE_CORES = 1;
+const NEGATIVE_CORES = 2;
+const siteXs: number[] = [];
+
+/** Cell centre in the project CRS. */
+const centre = (cell: number): [number, number] => [ORIGIN_X + ((cell % SIZE) + 0.5) * CELL, ORIGIN_Y - (Math.floor(cell / SIZE) + 0.5) * CELL];
+
+beforeAll(async () => {
+  world = await buildWorld("md");
+  token = (await createApiToken(world.userIds.analyst, "model")).token;
+  reviewerToken = (await createApiToken(world.userIds.reviewer, "model-review")).token;
+  const bathyId = await upload("bathymetry", shelfTiff(), "corrie-shelf.tif", { sign: "elevation_positive_up", datum: "MSL", offset_to_msl_m: "0" });
+  const res = await callWith(
+    apiRecons.action,
+    new Request(new URL(`/api/projects/${world.projectId}/reconstructions`, ORIGIN), {
+      method: "POST",
+      body: JSON.stringify({ bathymetryDatasetId: bathyId, agesKa: [14, 12, 10], oceanSides: ["east"], tidalRangeM: 2, streamThresholdKm2: 0.2, name: "Corrie shelf" }),
+      headers: { ...auth(), "Content-Type": "application/json" },
+    }),
+    { projectId: String(world.projectId) },
+  );
+  expect(res.status, await res.clone().text()).toBe(202);
+  reconstructionId = (await res.json()).reconstruction.id;
+  startWorker();
+  const r = await waitFor("the reconstruction to publish", async () => {
+    const [row] = await db().select().from(reconstructions).where(eq(reconstructions.id, reconstructionId));
+    if (row.status === "failed") throw new Error(row.error ?? "failed");
+    return row.status === "published" ? row : null;
+  }, 90_000);
+  manifest = r.manifest as unknown as Manifest;
+
+  // Land at 12 ka with a value in every factor used: where the invented sites go.
+  const read = async (name: string, ageKa: number | null) => (await layerGrid(layerKey(r, name, ageKa)!, manifest, manifest.layers.find((l) => l.name === name && (l.ageKa ?? null) === ageKa)!)).data;
+  const lc = await read("land_class", 12);
+  const factorLayers = await Promise.all(FACTORS.map((f) => read(f, ["slope", "tpi"].includes(f) ? null : 12)));
+  const good: number[] = [];
+  for (let i = 0; i < SIZE * SIZE; i++) if (lc[i] === 0 && factorLayers.every((l) => l[i] === l[i])) good.push(i);
+  expect(good.length, "land cells at 12 ka").toBeGreaterThan(100);
+  // spread over the land: every k-th good cell
+  const pick = (k: number, of: number) => good[Math.floor(((k + 0.5) * good.length) / of)];
+  const sites = ["site_id,x,y,precision_m,kind,context,cal_bp_from,cal_bp_to"];
+  for (let k = 0; k < IN_SITU; k++) {
+    const [x, y] = centre(pick(k, IN_SITU + DERIVED));
+    siteXs.push(x);
+    sites.push(`CS-${k + 1},${x},${y},10,hearth,in_situ,12200,11800`);
+  }
+  for (let k = 0; k < DERIVED; k++) {
+    const [x, y] = centre(pick(IN_SITU + k, IN_SITU + DERIVED));
+    sites.push(`CS-D${k + 1},${x},${y},10,flint,derived,12200,11800`);
+  }
+  await upload("known_sites", sites.join("\n") + "\n", "corrie-sites.csv");
+  const cores = ["core_id,x,y,horizon_reached,preserved_land_surface,archaeological_indicators,lab_code,cal_from,cal_to"];
+  const [cx, cy] = centre(good[Math.floor(good.length / 3) + 1]);
+  cores.push(`CC-1,${cx},${cy},yes,yes,burnt flint,CR-1,12100,11900`);
+  for (let k = 0; k < NEGATIVE_CORES; k++) {
+    const [nx, ny] = centre(good[Math.floor(((k + 1) * good.length) / 4) + 2]);
+    cores.push(`CC-N${k + 1},${nx},${ny},yes,no,none,,,`);
+  }
+  await upload("cores", cores.join("\n") + "\n", "corrie-cores.csv");
+  // three east–west survey lines across the grid
+  const lines = ["line_id,fix_id,x,y"];
+  for (const [k, y] of [ORIGIN_Y - 400, ORIGIN_Y - 1200, ORIGIN_Y - 2000].entries())
+    for (let x = ORIGIN_X + 25, f = 1; x < ORIGIN_X + SIZE * CELL; x += 200, f++) lines.push(`L${k + 1},${f},${x},${y}`);
+  await upload("survey_lines", lines.join("\n") + "\n", "corrie-lines.csv");
+}, 180_000);
+afterAll(async () => {
+  await stopWorkers();
+  await stopBoss();
+});
+
+describe("a trained model", () => {
+  let modelId: number;
+
+  it("trains and publishes with a card, fold metrics and a probability raster on the age's land", async () => {
+    const audits = (await db().select({ n: count() }).from(auditLog).where(eq(auditLog.action, "model.started")))[0].n;
+    const started = await postModel({ reconstructionId, ageKa: 12, factors: FACTORS, settings: SMALL });
+    expect(started.status, JSON.stringify(started.body)).toBe(202);
+    modelId = started.body.model.id;
+    expect((await db().select({ n: count() }).from(auditLog).where(eq(auditLog.action, "model.started")))[0].n).toBe(audits + 1);
+    await waitFor(`model ${modelId} to publish`, async () => {
+      const [m] = await db().select().from(models).where(eq(models.id, modelId));
+      if (m.status === "failed") throw new Error(`model failed: ${m.error}`);
+      return m.status === "published" ? m : null;
+    }, 60_000);
+    const got = await getModelApi(modelId);
+    expect(got.status).toBe(200);
+    const m = JSON.parse(got.text).model;
+    expect(m).toMatchObject({ status: "published", ageKa: 12, reconstruction: { id: reconstructionId } });
+    const card = m.card;
+    // Presences: the in-situ sites and the core with archaeological material — nothing else.
+    expect(card.samples).toMatchObject({ presences: IN_SITU + POSITIVE_CORES, sites: IN_SITU, cores: POSITIVE_CORES });
+    expect(card.samples.excluded).toEqual({ "derived find": DERIVED, "core without archaeological material (not an absence)": NEGATIVE_CORES });
+    expect(card.samples.background).toBeGreaterThan(50);
+    expect(card.samples.background).toBeLessThanOrEqual(SMALL.backgroundCells);
+    expect(card.inputs).toEqual(FACTORS);
+    expect(card.parameters).toMatchObject({ trees: SMALL.trees, minPresences: SMALL.minSites, seed: SMALL.seed });
+    // Spatial-block cross-validation: k folds, every presence held out once, AUC a probability.
+    expect(card.folds.k).toBe(SMALL.folds);
+    expect(card.folds.blockSizeM).toBe(SMALL.blockSizeM);
+    expect(card.folds.folds).toHaveLength(SMALL.folds);
+    expect(card.folds.folds.reduce((s: number, f: { testPresences: number }) => s + f.testPresences, 0)).toBe(IN_SITU + POSITIVE_CORES);
+    expect(card.folds.auc.mean).toBeGreaterThanOrEqual(0);
+    expect(card.folds.auc.mean).toBeLessThanOrEqual(1);
+    expect(card.folds.gain).toHaveLength(card.folds.classLabels.length);
+    expect(card.trainingMs).toBeGreaterThanOrEqual(0);
+    expect(card.background.searchedGround.surveyLines).toBe(3);
+    expect(card.background.searchedGround.cores).toBe(POSITIVE_CORES + NEGATIVE_CORES);
+
+    // No site position and no record id anywhere in the response.
+    for (const x of siteXs) expect(got.text).not.toContain(String(x));
+    expect(got.text).not.toMatch(/CS-\d|site-\d|CC-/);
+
+    // The stored forest was trained on exactly the card's samples' factors and trees.
+    const [row] = await db().select().from(models).where(eq(models.id, modelId));
+    const forest = deserialiseForest(await getJson(`${row.layerPrefix}/forest.json`));
+    expect(forest.factorIds).toEqual(FACTORS);
+    expect(forest.compiled.trees).toBe(SMALL.trees);
+
+    // The raster: the reconstruction's grid in the project's CRS, a share of trees in [0, 1] on land
+    // at 12 ka, NaN on the sea (a share of T votes is a multiple of 1/T — Breiman 2001, the vote).
+    const res = await raster(modelId);
+    expect(res.status).toBe(200);
+    expect(res.headers.get("Content-Type")).toBe("image/tiff");
+    const tif = await readGeoTiff(new Uint8Array(await res.arrayBuffer()));
+    expect(tif.grid.spec).toMatchObject({ width: SIZE, height: SIZE, originX: ORIGIN_X, originY: ORIGIN_Y, cellSizeX: CELL });
+    expect(tif.grid.spec.crs?.epsg).toBe(32733);
+    const [r] = await db().select().from(reconstructions).where(eq(reconstructions.id, reconstructionId));
+    const lc = (await layerGrid(layerKey(r, "land_class", 12)!, manifest, manifest.layers.find((l) => l.name === "land_class" && l.ageKa === 12)!)).data;
+    let onLand = 0;
+    for (let i = 0; i < SIZE * SIZE; i++) {
+      const p = tif.grid.data[i];
+      if (lc[i] === 1) expect(p).toBeNaN();
+      if (p === p) {
+        onLand++;
+        expect(p).toBeGreaterThanOrEqual(0);
+        expect(p).toBeLessThanOrEqual(1);
+        expect(Math.abs(p * SMALL.trees - Math.round(p * SMALL.trees))).toBeLessThan(1e-5);
+      }
+    }
+    expect(onLand).toBe(m.result.probability.cells);
+    const classCells = m.result.classes.reduce((s: number, c: { cells: number }) => s + c.cells, 0);
+    expect(classCells).toBe(onLand);
+
+    // ?display=8: the layer API's quantised form.
+    const d = await raster(modelId, "?display=8");
+    expect(d.status).toBe(200);
+    expect(Number(d.headers.get("X-Lowstand-Width"))).toBe(SIZE);
+    expect(Number(d.headers.get("X-Lowstand-Nodata-Code"))).toBe(255);
+    const codes = new Uint8Array(await d.arrayBuffer());
+    expect(codes.length).toBe(SIZE * SIZE);
+    const scale = Number(d.headers.get("X-Lowstand-Scale"));
+    const offset = Number(d.headers.get("X-Lowstand-Offset"));
+    for (let i = 0; i < SIZE * SIZE; i++) {
+      const p = tif.grid.data[i];
+      if (p !== p) expect(codes[i]).toBe(255);
+      else expect(Math.abs(codes[i] * scale + offset - p)).toBeLessThanOrEqual(scale / 2 + 1e-6);
+    }
+  });
+
+  it("reuses the model for identical inputs, and the reviewer reads it", async () => {
+    const again = await postModel({ reconstructionId, ageKa: 12, factors: FACTORS, settings: SMALL });
+    expect(again.status).toBe(200);
+    expect(again.body).toMatchObject({ reused: true, model: { id: modelId } });
+    const r = await getModelApi(modelId, reviewerToken);
+    expect(r.status).toBe(200);
+    expect((await raster(modelId, "", reviewerToken)).status).toBe(200);
+  });
+
+  it("gives a viewer no model, no card and no raster", async () => {
+    for (const res of [
+      await callWith(apiModel.loader, new Request(new URL(`/api/models/${modelId}`, ORIGIN), { headers: auth(world.viewerToken) }), { id: String(modelId) }),
+      await raster(modelId, "", world.viewerToken),
+      await raster(modelId, "?display=8", world.viewerToken),
+      await callWith(apiModels.loader, new Request(new URL(`/api/projects/${world.projectId}/models`, ORIGIN), { headers: auth(world.viewerToken) }), { projectId: String(world.projectId) }),
+    ]) {
+      expect(res.status).toBe(403);
+      const text = await res.text();
+      expect(text).not.toContain("samples");
+      for (const x of siteXs) expect(text).not.toContain(String(x));
+    }
+    // and the viewer's session on the page is refused too (tested for every role in the authorization matrix)
+  });
+});
+
+describe("refusals", () => {
+  it("refuses too few sites before queueing, with the count and what was left out", async () => {
+    const before = await modelCount();
+    const res = await postModel({ reconstructionId, ageKa: 12, factors: FACTORS, settings: { ...SMALL, minSites: 20 } });
+    expect(res.status).toBe(422);
+    expect(res.body.error.code).toBe("too_few_sites");
+    expect(res.body.refusal).toEqual({
+      presences: IN_SITU + POSITIVE_CORES,
+      sites: IN_SITU,
+      cores: POSITIVE_CORES,
+      minimum: 20,
+      excluded: { "derived find": DERIVED, "core without archaeological material (not an absence)": NEGATIVE_CORES },
+      heldOut: 0,
+    });
+    expect(res.body.error.message).toContain(`only ${IN_SITU + POSITIVE_CORES} remain`);
+    expect(res.body.error.message).toContain(`${DERIVED} derived find`);
+    expect(await modelCount()).toBe(before);
+  });
+
+  it("refuses bad requests with their message and stores nothing", async () => {
+    const before = await modelCount();
+    const cases: [unknown, number, RegExp][] = [
+      [{ reconstructionId, ageKa: 13, settings: SMALL }, 422, /not one of the reconstruction's ages/],
+      [{ reconstructionId, factors: ["dist_moon"], settings: SMALL }, 422, /factor must be one of/],
+      [{ reconstructionId, factors: ["slope", "slope"], settings: SMALL }, 422, /listed twice/],
+      [{ reconstructionId, settings: { ...SMALL, folds: 1 } }, 422, /folds must be at least 2/],
+      [{ reconstructionId, settings: { ...SMALL, minSites: 2 } }, 422, /minSites must be at least 5/],
+      [{ reconstructionId, settings: { ...SMALL, blockSizeM: 10 } }, 422, /at least one cell wide/],
+      // the default 2 km blocks give the 2.4 km grid 4 blocks, fewer than the default 5 folds
+      [{ reconstructionId }, 422, /fewer blocks than the 5 folds/],
+      [{ reconstructionId, settings: SMALL, surprise: 1 }, 422, /surprise/],
+      [{ reconstructionId: 999_999, settings: SMALL }, 422, /not one of this project's reconstructions/],
+    ];
+    for (const [body, status, message] of cases) {
+      const res = await postModel(body);
+      expect(res.status, JSON.stringify(body)).toBe(status);
+      expect(res.body.error.message, JSON.stringify(body)).toMatch(message);
+    }
+    // a reviewer may read models but not start one
+    expect((await postModel({ reconstructionId }, reviewerToken)).status).toBe(403);
+    expect(await modelCount()).toBe(before);
+  });
+});

@@ -1,0 +1,68 @@
+// Reading a published reconstruction's layers at full resolution inside a job (the scoring and the
+// model jobs): each wanted layer (docs/layers.md name, age or null for a static layer) read once, in
+// full, checked against the grid, with progress and cancellation between layers. A layer the
+// manifest does not list is simply absent from the result (the caller decides what that means: a
+// distance to a feature that does not exist at that age, say); a layer the manifest lists but
+// storage no longer has is the user's to fix (run the reconstruction again).
+import { ObjectNotFound } from "../app/storage.server";
+import { layerKey } from "../app/reconstructions.server";
+import { layerGrid } from "../app/layers.server";
+import type { Manifest } from "../app/terrain/reconstruct";
+import { JobUserError, type JobContext } from "./wrapper";
+
+/** One reconstruction layer as read (Float32, NaN nodata; class layers too, as readGeoTiff returns them). */
+export interface LoadedLayer {
+  name: string;
+  ageKa: number | null;
+  values: Float32Array;
+}
+
+export interface WantedLayer {
+  name: string;
+  ageKa: number | null;
+}
+
+/** The key of a loaded layer in the map {@link loadReconstructionLayers} returns. */
+export const layerId = (name: string, ageKa: number | null) => `${name}@${ageKa}`;
+
+/** Adds a wanted layer once. */
+export function wantLayer(wanted: WantedLayer[], name: string, ageKa: number | null): void {
+  if (!wanted.some((w) => w.name === name && w.ageKa === ageKa)) wanted.push({ name, ageKa });
+}
+
+function missingLayer(name: string, ageKa: number | null, what: string) {
+  return new JobUserError(`The reconstruction's layer ${name}${ageKa === null ? "" : ` at ${ageKa} ka`} is missing from storage; run the reconstruction again, then ${what}.`);
+}
+
+/**
+ * Reads the wanted layers of a published reconstruction. Progress runs from `progress.from` to
+ * `progress.to` with the step "reading layers"; `what` finishes the message for a missing layer
+ * ("score it", "train the model"). O(cells × layers).
+ */
+export async function loadReconstructionLayers(
+  ctx: Pick<JobContext<unknown>, "progress" | "throwIfCancelled">,
+  rec: { layerPrefix: string | null; manifest: Record<string, unknown> | null },
+  manifest: Manifest,
+  wanted: readonly WantedLayer[],
+  options: { from: number; to: number; what: string },
+): Promise<Map<string, LoadedLayer>> {
+  const n = manifest.grid.width * manifest.grid.height;
+  const loaded = new Map<string, LoadedLayer>();
+  for (const [k, w] of wanted.entries()) {
+    ctx.throwIfCancelled();
+    const layer = manifest.layers.find((l) => l.name === w.name && (l.ageKa ?? null) === w.ageKa);
+    if (layer) {
+      let values: Float32Array;
+      try {
+        values = (await layerGrid(layerKey(rec, w.name, w.ageKa)!, manifest, layer)).data;
+      } catch (e) {
+        if (e instanceof ObjectNotFound) throw missingLayer(w.name, w.ageKa, options.what);
+        throw e;
+      }
+      if (values.length !== n) throw new JobUserError(`The reconstruction's layer ${w.name}${w.ageKa === null ? "" : ` at ${w.ageKa} ka`} does not match its grid (${values.length} cells, not ${n}).`);
+      loaded.set(layerId(w.name, w.ageKa), { name: w.name, ageKa: w.ageKa, values });
+    }
+    ctx.progress(options.from + (options.to - options.from) * ((k + 1) / wanted.length), "reading layers");
+  }
+  return loaded;
+}
