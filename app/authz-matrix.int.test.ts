@@ -8,7 +8,7 @@ import { beforeAll, describe, expect, it } from "vitest";
 import routes from "./routes";
 import { db } from "./db.server";
 import { defaultWeightSetContent } from "./scoring/weight-set";
-import { datasets, jobRuns, reconstructions, scorings, weightSets, weightSetVersions } from "./db/schema";
+import { datasets, jobRuns, models, reconstructions, scorings, weightSets, weightSetVersions } from "./db/schema";
 import { eq } from "drizzle-orm";
 import { createWeightSet } from "./weight-sets.server";
 import { buildWorld, call, cookieFor, EVERYONE, headersFor, isRefusal, type CallOptions, type Who, type World } from "../tests/support/world";
@@ -34,6 +34,7 @@ const signedInApi: Expect = { default: "allow", signedOut: "refuse" };
 const projectPage = (allowed: Who[]): Expect => ({ default: "refuse", ...Object.fromEntries(allowed.map((w) => [w, "allow"])) });
 const MEMBERS: Who[] = ["owner", "lead", "analyst", "reviewer", "viewer"];
 const UPLOADERS: Who[] = ["owner", "lead", "analyst"];
+const MODEL_READERS: Who[] = ["owner", "lead", "analyst", "reviewer"];
 const pid = (w: World) => ({ projectId: String(w.projectId) });
 
 const MATRIX: Record<string, Probe[]> = {
@@ -229,6 +230,29 @@ const MATRIX: Record<string, Probe[]> = {
     { method: "GET", path: () => `/api/scorings/x`, params: () => ({ id: String(scoringId) }), expect: projectPage([...MEMBERS, "viewerToken"]) },
     { method: "POST", path: () => `/api/scorings/x`, params: () => ({ id: String(scoringId) }), options: { json: {} }, expect: projectPage([...MEMBERS, "viewerToken"]) },
   ],
+  // Trained models peak on exact site positions: never shown below analyst (models.read: owner,
+  // lead, analyst, reviewer; viewers and their tokens refused). The probe model never ran: members
+  // get 409 from the raster (not published), past the gate; an empty start request gets 422.
+  "routes/project-models.tsx": [
+    { method: "GET", path: (w) => `/projects/${w.projectId}/models`, params: pid, expect: projectPage(MODEL_READERS) },
+    { method: "POST", path: (w) => `/projects/${w.projectId}/models`, params: pid, options: { form: { reconstructionId: "" } }, expect: projectPage(UPLOADERS) },
+  ],
+  "routes/project-model.tsx": [
+    { method: "GET", path: (w) => `/projects/${w.projectId}/models/x`, params: (w) => ({ ...pid(w), modelId: String(modelId) }), expect: projectPage(MODEL_READERS) },
+  ],
+  "routes/api.project-models.ts": [
+    { method: "GET", path: (w) => `/api/projects/${w.projectId}/models`, params: pid, expect: projectPage(MODEL_READERS) },
+    { method: "POST", path: (w) => `/api/projects/${w.projectId}/models`, params: pid, options: { json: {} }, expect: projectPage(UPLOADERS) },
+  ],
+  "routes/api.model.ts": [
+    { method: "GET", path: () => `/api/models/x`, params: () => ({ id: String(modelId) }), expect: projectPage(MODEL_READERS) },
+    { method: "POST", path: () => `/api/models/x`, params: () => ({ id: String(modelId) }), options: { json: {} }, expect: projectPage(MODEL_READERS) },
+  ],
+  "routes/api.model-raster.ts": [
+    { method: "GET", path: () => `/api/models/x/raster`, params: () => ({ id: String(modelId) }), expect: projectPage(MODEL_READERS) },
+    { method: "GET", path: () => `/api/models/x/raster?display=8`, params: () => ({ id: String(modelId) }), expect: projectPage(MODEL_READERS) },
+    { method: "POST", path: () => `/api/models/x/raster`, params: () => ({ id: String(modelId) }), options: { json: {} }, expect: projectPage(MODEL_READERS) },
+  ],
   "routes/api.scoring-raster.ts": [
     // The probe scoring never ran: members get 409 (not published), which is past the gate.
     { method: "GET", path: () => `/api/scorings/x/raster/potential`, params: () => ({ id: String(scoringId), name: "potential" }), expect: projectPage([...MEMBERS, "viewerToken"]) },
@@ -268,6 +292,7 @@ let datasetId: number;
 let reconstructionId: number;
 let jobId: string;
 let scoringId: number;
+let modelId: number;
 let weightSetId: number;
 /** A dataset row to probe (its storage keys point nowhere; deleting it tolerates that). */
 async function makeDataset(w: World): Promise<number> {
@@ -307,6 +332,9 @@ beforeAll(async () => {
     .values({ projectId: world.projectId, reconstructionId, weightSetVersionId: probeVersion.id, target: { kind: "age", ageKa: 12 }, inputsHash: "probe" })
     .returning({ id: scorings.id });
   scoringId = sc.id;
+  // A model of it that never ran.
+  const [md] = await db().insert(models).values({ projectId: world.projectId, reconstructionId, name: "Probe model", params: { ageKa: 12 }, inputsHash: "probe" }).returning({ id: models.id });
+  modelId = md.id;
 });
 
 describe("the development outbox", () => {
