@@ -8,7 +8,7 @@ import { beforeAll, describe, expect, it } from "vitest";
 import routes from "./routes";
 import { db } from "./db.server";
 import { defaultWeightSetContent } from "./scoring/weight-set";
-import { datasets, jobRuns, models, reconstructions, scorings, weightSets, weightSetVersions } from "./db/schema";
+import { datasets, jobRuns, reviews, models, reconstructions, scorings, weightSets, weightSetVersions } from "./db/schema";
 import { eq } from "drizzle-orm";
 import { createWeightSet } from "./weight-sets.server";
 import { buildWorld, call, cookieFor, EVERYONE, headersFor, isRefusal, type CallOptions, type Who, type World } from "../tests/support/world";
@@ -253,6 +253,39 @@ const MATRIX: Record<string, Probe[]> = {
     { method: "GET", path: () => `/api/models/x/raster?display=8`, params: () => ({ id: String(modelId) }), expect: projectPage(MODEL_READERS) },
     { method: "POST", path: () => `/api/models/x/raster`, params: () => ({ id: String(modelId) }), options: { json: {} }, expect: projectPage(MODEL_READERS) },
   ],
+  // Reviews: every member reads them; reviewers and owners open and sign (reviews.sign); everyone but
+  // viewers comments. Probes send empty bodies: allowed callers get 422 (or 405), past the gate.
+  "routes/project-reviews.tsx": [
+    { method: "GET", path: (w) => `/projects/${w.projectId}/reviews`, params: pid, expect: projectPage(MEMBERS) },
+    { method: "POST", path: (w) => `/projects/${w.projectId}/reviews`, params: pid, options: { form: { title: "" } }, expect: projectPage(["owner", "reviewer"]) },
+  ],
+  "routes/project-review.tsx": [
+    { method: "GET", path: (w) => `/projects/${w.projectId}/reviews/x`, params: (w) => ({ ...pid(w), reviewId: String(reviewId) }), expect: projectPage(MEMBERS) },
+    { method: "POST", path: (w) => `/projects/${w.projectId}/reviews/x`, params: (w) => ({ ...pid(w), reviewId: String(reviewId) }), options: { form: { intent: "comment", body: "" } }, expect: projectPage(["owner", "lead", "analyst", "reviewer"]) },
+    { method: "POST", path: (w) => `/projects/${w.projectId}/reviews/x`, params: (w) => ({ ...pid(w), reviewId: String(reviewId) }), options: { form: { intent: "decide" } }, expect: projectPage(["owner", "reviewer"]) },
+  ],
+  "routes/project-review-report.tsx": [
+    { method: "GET", path: (w) => `/projects/${w.projectId}/reviews/x/report`, params: (w) => ({ ...pid(w), reviewId: String(reviewId) }), expect: projectPage(MEMBERS) },
+  ],
+  "routes/api.project-reviews.ts": [
+    { method: "GET", path: (w) => `/api/projects/${w.projectId}/reviews`, params: pid, expect: projectPage([...MEMBERS, "viewerToken"]) },
+    { method: "POST", path: (w) => `/api/projects/${w.projectId}/reviews`, params: pid, options: { json: {} }, expect: projectPage(["owner", "reviewer"]) },
+  ],
+  "routes/api.review.ts": [
+    { method: "GET", path: () => `/api/reviews/x`, params: () => ({ id: String(reviewId) }), expect: projectPage([...MEMBERS, "viewerToken"]) },
+    { method: "POST", path: () => `/api/reviews/x`, params: () => ({ id: String(reviewId) }), options: { json: {} }, expect: projectPage([...MEMBERS, "viewerToken"]) },
+  ],
+  "routes/api.review-decision.ts": [
+    { method: "POST", path: () => `/api/reviews/x/decision`, params: () => ({ id: String(reviewId) }), options: { json: {} }, expect: projectPage(["owner", "reviewer"]) },
+  ],
+  "routes/api.review-comments.ts": [
+    { method: "POST", path: () => `/api/reviews/x/comments`, params: () => ({ id: String(reviewId) }), options: { json: {} }, expect: projectPage(["owner", "lead", "analyst", "reviewer"]) },
+  ],
+  // The probe review's scoring never ran: members get 404 (no such map), past the gate.
+  "routes/api.review-map.ts": [
+    { method: "GET", path: () => `/api/reviews/x/map.png`, params: () => ({ id: String(reviewId) }), expect: projectPage([...MEMBERS, "viewerToken"]) },
+    { method: "POST", path: () => `/api/reviews/x/map.png`, params: () => ({ id: String(reviewId) }), options: { json: {} }, expect: projectPage([...MEMBERS, "viewerToken"]) },
+  ],
   "routes/api.scoring-raster.ts": [
     // The probe scoring never ran: members get 409 (not published), which is past the gate.
     { method: "GET", path: () => `/api/scorings/x/raster/potential`, params: () => ({ id: String(scoringId), name: "potential" }), expect: projectPage([...MEMBERS, "viewerToken"]) },
@@ -292,6 +325,7 @@ let datasetId: number;
 let reconstructionId: number;
 let jobId: string;
 let scoringId: number;
+let reviewId: number;
 let modelId: number;
 let weightSetId: number;
 /** A dataset row to probe (its storage keys point nowhere; deleting it tolerates that). */
@@ -332,6 +366,21 @@ beforeAll(async () => {
     .values({ projectId: world.projectId, reconstructionId, weightSetVersionId: probeVersion.id, target: { kind: "age", ageKa: 12 }, inputsHash: "probe" })
     .returning({ id: scorings.id });
   scoringId = sc.id;
+  // An open review of that scoring (a hand-made snapshot: the gates do not read its files).
+  const snapshot = {
+    format: 1,
+    project: { id: world.projectId, name: "Farrow Deep", crsEpsg: 32733 },
+    reconstruction: { id: reconstructionId, name: "", inputsHash: "probe", engineVersion: "probe", agesKa: [12], grid: { width: 1, height: 1, originX: 0, originY: 0, cellSizeX: 1, cellSizeY: 1 }, publishedAt: null, manifestSha256: "probe", layers: 0 },
+    subject: { kind: "weights", weightSet: { id: probeSet.id, name: "Scoring probe" }, version: { id: probeVersion.id, number: 1, contentHash: "probe" } },
+    scoring: { id: scoringId, inputsHash: "probe", target: { kind: "age", ageKa: 12 }, targetLabel: "12 ka", publishedAt: null, files: [], displayChecksum: null },
+    classification: { kind: "fixed", thresholds: [0.75, 0.5, 0.25], labels: ["very high", "high", "medium", "low"] },
+    uncertaintyRun: null,
+    exclusionBuffersM: null,
+    datasets: [],
+    refs: [],
+  };
+  const [rv] = await db().insert(reviews).values({ projectId: world.projectId, title: "Probe review", snapshot, snapshotHash: "probe", createdBy: world.userIds.reviewer }).returning({ id: reviews.id });
+  reviewId = rv.id;
   // A model of it that never ran.
   const [md] = await db().insert(models).values({ projectId: world.projectId, reconstructionId, name: "Probe model", params: { ageKa: 12 }, inputsHash: "probe" }).returning({ id: models.id });
   modelId = md.id;

@@ -19,6 +19,7 @@ import { nodeDeflate } from "./terrain/geotiff-deflate-node";
 import { z } from "zod";
 import { can } from "./permissions";
 import { KIND_LABELS, KINDS_WITH_HEIGHTS } from "./evidence-kinds";
+import { referencedByReview } from "./reviews.server";
 
 export { KIND_LABELS, KINDS_WITH_HEIGHTS };
 
@@ -236,6 +237,7 @@ export async function getDataset(projectId: number, datasetId: number) {
 /** Deletes a dataset, its site records and its stored objects. */
 export async function deleteDataset(projectId: number, datasetId: number, actorUserId: number, meta: { clientAddress?: string } = {}) {
   const row = await db().transaction(async (tx) => {
+    await referencedByReview("dataset", datasetId, tx);
     // Refused while a reconstruction was made from it (its provenance would point at nothing).
     const users = await tx
       .select({ id: reconstructions.id, name: reconstructions.name })

@@ -3,7 +3,7 @@
 // learns nothing about whether the resource exists.
 import { eq } from "drizzle-orm";
 import { db } from "./db.server";
-import { datasets, jobRuns, models, reconstructions, scorings, weightSets } from "./db/schema";
+import { datasets, jobRuns, models, reconstructions, reviews, scorings, weightSets } from "./db/schema";
 import { requireProjectAccess } from "./permissions.server";
 import { requireIdentity } from "./auth.server";
 import { refusal } from "./security.server";
@@ -57,4 +57,10 @@ export async function requireScoringAccess(request: Request, idParam: string | u
 export async function requireModelAccess(request: Request, idParam: string | undefined, capability: Capability) {
   const access = await requireResourceAccess(request, idParam, NUMERIC, async (id) => (await db().select({ p: models.projectId }).from(models).where(eq(models.id, Number(id))))[0]?.p, capability, "no_such_model", "model");
   return { ...access, modelId: Number(idParam) };
+}
+
+/** A review (every member reads it; deciding needs reviews.sign). */
+export async function requireReviewAccess(request: Request, idParam: string | undefined, capability: Capability) {
+  const access = await requireResourceAccess(request, idParam, NUMERIC, async (id) => (await db().select({ p: reviews.projectId }).from(reviews).where(eq(reviews.id, Number(id))))[0]?.p, capability, "no_such_review", "review");
+  return { ...access, reviewId: Number(idParam) };
 }

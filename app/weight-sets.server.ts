@@ -14,6 +14,7 @@ import { UserError } from "./errors";
 import { describeIssues } from "./api.server";
 import { weightSetContentSchema } from "./weight-set-schema";
 import { defaultWeightSetContent, type WeightSetContent } from "./scoring/weight-set";
+import { referencedByReview } from "./reviews.server";
 
 type Tx = Parameters<Parameters<ReturnType<typeof db>["transaction"]>[0]>[0];
 type SetRow = typeof weightSets.$inferSelect;
@@ -451,6 +452,7 @@ async function deleteLocked(input: { weightSetId: number; userId: number; client
   await db().transaction(async (tx) => {
     const [set] = await tx.select().from(weightSets).where(eq(weightSets.id, input.weightSetId)).for("update");
     if (!set) throw new UserError(404, "no_such_weight_set", "There is no such weight set (it may have been deleted).");
+    await referencedByReview("weight_set", set.id, tx);
     const versions = await tx.select({ id: weightSetVersions.id, version: weightSetVersions.version }).from(weightSetVersions).where(eq(weightSetVersions.weightSetId, set.id)).for("update");
     const numberOf = new Map(versions.map((v) => [v.id, v.version]));
     const ids = versions.map((v) => v.id);
