@@ -222,6 +222,28 @@ const MATRIX: Record<string, Probe[]> = {
   "routes/api.weight-set-restore.ts": [
     { method: "POST", path: () => `/api/weight-sets/x/restore`, params: () => ({ id: String(weightSetId) }), options: { json: {} }, expect: projectPage(UPLOADERS) },
   ],
+  // The review desk: any member reads (no site positions, or sites as §9 allows); the probe world has
+  // no scoring, so members get 409 past the gate. Buffers: reviewers (reviews.sign) or leads and owners (project.edit).
+  "routes/project-regulator.tsx": [
+    { method: "GET", path: (w) => `/projects/${w.projectId}/regulator`, params: pid, expect: projectPage(MEMBERS) },
+    { method: "POST", path: (w) => `/projects/${w.projectId}/regulator`, params: pid, options: { form: { wreck: "-1" } }, expect: projectPage(["owner", "lead", "reviewer"]) },
+  ],
+  "routes/api.project-conflicts.ts": [
+    { method: "GET", path: (w) => `/api/projects/${w.projectId}/conflicts`, params: pid, expect: projectPage([...MEMBERS, "viewerToken"]) },
+    { method: "POST", path: (w) => `/api/projects/${w.projectId}/conflicts`, params: pid, options: { json: {} }, expect: projectPage([...MEMBERS, "viewerToken"]) },
+  ],
+  "routes/api.project-block-figures.ts": [
+    { method: "GET", path: (w) => `/api/projects/${w.projectId}/blocks/figures`, params: pid, expect: projectPage([...MEMBERS, "viewerToken"]) },
+    { method: "POST", path: (w) => `/api/projects/${w.projectId}/blocks/figures`, params: pid, options: { json: {} }, expect: projectPage([...MEMBERS, "viewerToken"]) },
+  ],
+  "routes/api.project-zones.ts": [
+    { method: "GET", path: (w) => `/api/projects/${w.projectId}/zones?kind=exclusion`, params: pid, expect: projectPage([...MEMBERS, "viewerToken"]) },
+    { method: "POST", path: (w) => `/api/projects/${w.projectId}/zones`, params: pid, options: { json: {} }, expect: projectPage([...MEMBERS, "viewerToken"]) },
+  ],
+  "routes/api.project-exclusion-settings.ts": [
+    { method: "GET", path: (w) => `/api/projects/${w.projectId}/exclusion-settings`, params: pid, expect: projectPage([...MEMBERS, "viewerToken"]) },
+    { method: "PUT", path: (w) => `/api/projects/${w.projectId}/exclusion-settings`, params: pid, options: { json: { wreck: -1 } }, expect: projectPage(["owner", "lead", "reviewer"]) },
+  ],
   "routes/api.project-scorings.ts": [
     { method: "GET", path: (w) => `/api/projects/${w.projectId}/scorings`, params: pid, expect: projectPage([...MEMBERS, "viewerToken"]) },
     { method: "POST", path: (w) => `/api/projects/${w.projectId}/scorings`, params: pid, options: { json: {} }, expect: projectPage(UPLOADERS) },

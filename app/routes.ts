@@ -28,6 +28,7 @@ export default [
     route("weighing/:sessionId", "routes/project-session.tsx"),
     route("weights", "routes/project-weight-sets.tsx"),
     route("weights/:weightSetId", "routes/project-weight-set.tsx"),
+    route("regulator", "routes/project-regulator.tsx"),
     route("reviews", "routes/project-reviews.tsx"),
     route("reviews/:reviewId", "routes/project-review.tsx"),
     route("models", "routes/project-models.tsx"),
@@ -81,4 +82,8 @@ export default [
   route("api/reviews/:id/decision", "routes/api.review-decision.ts"),
   route("api/reviews/:id/comments", "routes/api.review-comments.ts"),
   route("api/reviews/:id/map.png", "routes/api.review-map.ts"),
+  route("api/projects/:projectId/conflicts", "routes/api.project-conflicts.ts"),
+  route("api/projects/:projectId/blocks/figures", "routes/api.project-block-figures.ts"),
+  route("api/projects/:projectId/zones", "routes/api.project-zones.ts"),
+  route("api/projects/:projectId/exclusion-settings", "routes/api.project-exclusion-settings.ts"),
 ] satisfies RouteConfig;

@@ -26,6 +26,7 @@ export default function ProjectLayout({ loaderData }: Route.ComponentProps) {
     { to: `/projects/${project.id}/sea-level`, label: "Sea level", end: false, show: true },
     { to: `/projects/${project.id}/reconstructions`, label: "Reconstructions", end: false, show: true },
     { to: `/projects/${project.id}/weighing`, label: "Weighing sessions", end: false, show: true },
+    { to: `/projects/${project.id}/regulator`, label: "Review desk", end: false, show: true },
     { to: `/projects/${project.id}/reviews`, label: "Reviews", end: false, show: true },
     { to: `/projects/${project.id}/members`, label: "Members", end: false, show: can(role, "members.read") },
     { to: `/projects/${project.id}/audit`, label: "Audit log", end: false, show: can(role, "audit.read") },
