@@ -180,6 +180,29 @@ describe("transects across a mapped feature", () => {
     expect(minPairDistance(r.picks)).toBeGreaterThanOrEqual(50);
   });
 
+  it("crosses a bent axis on the segment holding the chainage, skipping repeated vertices", () => {
+    const bent = {
+      ...req,
+      axis: [
+        [0, 300],
+        [300, 300],
+        [300, 300],
+        [300, 0],
+      ] as Array<[number, number]>,
+      halfLengthM: 0,
+      chainagesM: [150, 300, 450, 600],
+    };
+    const r = selectTransect(new SpacingState(g, allowed, 50), bent, 10);
+    // formula: 150 m along the first leg → (150, 300); 300 m → the corner, on the second leg (the one that
+    // starts there); 450 m → (300, 150); 600 m → the end (300, 0), which is the grid's southern edge: off the grid
+    expect(r.picks.map((p) => [p.x, p.y])).toEqual([
+      [155, 295],
+      [305, 295],
+      [305, 145],
+    ]);
+    expect(r.skipped).toBe(1);
+  });
+
   it("skips stations on refused ground and refuses bad requests with the reason", () => {
     const holes = allowed.slice();
     holes[cellAt(g, 105, 300)] = 0; // the first axis station

@@ -276,9 +276,9 @@ export function selectTransect(state: SpacingState, req: TransectRequest, positi
   const picks: Pick[] = [];
   let skipped = 0;
   req.chainagesM.forEach((ch, t) => {
-    let seg = 0;
-    while (seg < axis.length - 2 && cum[seg + 1] <= ch) seg++;
-    while (seg < axis.length - 2 && cum[seg + 1] - cum[seg] === 0) seg++;
+    // the last segment of positive length that starts at or before the chainage (repeated vertices skipped)
+    let seg = -1;
+    for (let s = 0; s < axis.length - 1; s++) if (cum[s + 1] > cum[s] && (seg < 0 || cum[s] <= ch)) seg = s;
     const len = cum[seg + 1] - cum[seg];
     const ux = (axis[seg + 1][0] - axis[seg][0]) / len;
     const uy = (axis[seg + 1][1] - axis[seg][1]) / len;
