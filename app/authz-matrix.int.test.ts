@@ -275,6 +275,10 @@ const MATRIX: Record<string, Probe[]> = {
     { method: "GET", path: () => `/api/models/x/raster?display=8`, params: () => ({ id: String(modelId) }), expect: projectPage(MODEL_READERS) },
     { method: "POST", path: () => `/api/models/x/raster`, params: () => ({ id: String(modelId) }), options: { json: {} }, expect: projectPage(MODEL_READERS) },
   ],
+  "routes/api.model-validation.ts": [
+    { method: "GET", path: () => `/api/models/x/validation`, params: () => ({ id: String(modelId) }), expect: projectPage(MODEL_READERS) },
+    { method: "POST", path: () => `/api/models/x/validation`, params: () => ({ id: String(modelId) }), options: { json: {} }, expect: projectPage(MODEL_READERS) },
+  ],
   // Reviews: every member reads them; reviewers and owners open and sign (reviews.sign); everyone but
   // viewers comments. Probes send empty bodies: allowed callers get 422 (or 405), past the gate.
   "routes/project-reviews.tsx": [

@@ -12,17 +12,19 @@ import { createHash } from "node:crypto";
 import { and, asc, desc, eq, inArray, sql } from "drizzle-orm";
 import { z } from "zod";
 import { db } from "./db.server";
-import { datasets, jobRuns, models, projects, reconstructions, siteRecords } from "./db/schema";
+import { datasets, jobRuns, models, reconstructions, siteRecords } from "./db/schema";
 import { UserError } from "./errors";
 import { recordAudit } from "./audit.server";
 import { getJson, store } from "./storage.server";
 import { enqueueJob, jobRunStatus } from "./jobs.server";
 import { FACTOR_IDS, factorDef, type FactorId } from "./scoring/factors";
 import { DEFAULT_FOREST_SETTINGS, trainingSet, type Evidence, type ExclusionReason } from "./scoring/forest";
-import { fixedClassification, type ProjectClassification } from "./scoring/classification";
-import { ScoringInputError } from "./scoring/errors";
+import type { ProjectClassification } from "./scoring/classification";
 import { geometryVertices } from "./scoring/scoring-inputs";
 import type { Manifest } from "./terrain/reconstruct";
+import { readGeoTiff } from "./terrain/geotiff-read";
+import { can, type Role } from "./permissions";
+import { ageWindowOf, projectClassification, validateRaster, type ValidationOptions, type ValidationSubject } from "./validations.server";
 
 /**
  * Bump when the model job's output changes meaning for the same inputs (evidence rules, background,
@@ -108,28 +110,6 @@ export interface ModelParams {
   factors: FactorId[];
   settings: ModelSettings;
   classification: ProjectClassification;
-}
-
-/**
- * The project's classification (projects.classification) in the form app/scoring/classification.ts
- * uses: thresholds decreasing, labels highest first. The column's default lists them from low to
- * high, so an increasing list is turned round.
- */
-export function projectClassification(json: unknown): ProjectClassification {
-  const c = (json ?? {}) as { kind?: string; thresholds?: number[]; labels?: string[] };
-  let t = Array.isArray(c.thresholds) ? c.thresholds.map(Number) : [0.75, 0.5, 0.25];
-  let labels = Array.isArray(c.labels) ? c.labels.map(String) : undefined;
-  if (t.length > 1 && t[0] < t[t.length - 1]) {
-    t = [...t].reverse();
-    labels = labels ? [...labels].reverse() : undefined;
-  }
-  try {
-    const fixed = fixedClassification(t, labels);
-    return c.kind === "quantile" ? { ...(c as ProjectClassification), thresholds: fixed.thresholds, labels: fixed.labels } : fixed;
-  } catch (e) {
-    if (e instanceof ScoringInputError) throw new UserError(409, "bad_classification", `The project's classification cannot be used: ${e.message} Set it again on the project's settings.`);
-    throw e;
-  }
 }
 
 // ---- evidence -----------------------------------------------------------------------------------
@@ -328,8 +308,7 @@ export async function resolveModelRequest(projectId: number, req: ModelRequest) 
   if (!rec || rec.projectId !== projectId) throw new UserError(422, "no_such_reconstruction", `Reconstruction ${req.reconstructionId} is not one of this project's reconstructions.`, "reconstructionId");
   if (rec.status !== "published" || !rec.manifest) throw new UserError(409, "not_published", `Reconstruction ${rec.id} is not published yet (it is ${rec.status}): train a model once its layers are published.`, "reconstructionId");
   const manifest = rec.manifest as unknown as Manifest;
-  const [project] = await db().select({ classification: projects.classification }).from(projects).where(eq(projects.id, projectId));
-  const classification = projectClassification(project?.classification);
+  const classification = await projectClassification(projectId);
 
   const settings: ModelSettings = { ...(DEFAULT_MODEL_SETTINGS as Omit<ModelSettings, "maxSitePrecisionM">), maxSitePrecisionM: Math.max(manifest.grid.cellSizeX, manifest.grid.cellSizeY), ...req.settings };
   if (settings.minSites < MIN_SITES_FLOOR) settings.minSites = MIN_SITES_FLOOR;
@@ -537,4 +516,44 @@ export async function modelRasterBytes(modelId: number) {
 /** The download's file name: project, model and age, ASCII only (a header value). */
 export function modelRasterFileName(project: { slug: string }, modelId: number, ageKa: number): string {
   return `${slug(project.slug)}-model-${modelId}-${String(ageKa).replace(".", "p")}ka-probability.tif`;
+}
+
+// ---- validation ---------------------------------------------------------------------------------
+
+/** The validation subject of a published model: its probability raster at its age (app/validations.server.ts). */
+export async function modelSubject(m: ModelWithRun): Promise<ValidationSubject> {
+  const params = m.params as unknown as ModelParams;
+  const result = m.result as { grid: ValidationSubject["grid"] };
+  const [rec] = await db().select({ manifest: reconstructions.manifest }).from(reconstructions).where(eq(reconstructions.id, m.reconstructionId));
+  const agesKa = ((rec?.manifest ?? null) as unknown as Manifest | null)?.agesKa ?? [params.ageKa];
+  const g = result.grid;
+  return {
+    kind: "model",
+    id: m.id,
+    projectId: m.projectId,
+    label: `Model: ${m.name}`,
+    inputsHash: m.inputsHash,
+    grid: { width: g.width, height: g.height, originX: g.originX, originY: g.originY, cellSizeX: g.cellSizeX, cellSizeY: g.cellSizeY },
+    window: ageWindowOf({ kind: "age", ageKa: params.ageKa }, agesKa),
+    // a probability has no preservation part: nothing is unassessed
+    load: async () => ({ potential: (await readGeoTiff(await store().getBytes(`${m.layerPrefix}/${MODEL_RASTER_FILE}`))).grid.data, unassessed: null }),
+  };
+}
+
+/**
+ * GET /api/models/:id/validation: the model's probability raster held against the project's sites
+ * and cores exactly as a scoring's potential is (validateRaster), stored and reused the same way.
+ * 409 while the model is not published. The caller must hold models.read (the route checks).
+ */
+export async function modelValidation(projectId: number, modelId: number, viewer: { userId: number; role: Role }, options: ValidationOptions = {}) {
+  const m = await getModel(modelId);
+  if (!m || m.projectId !== projectId) throw new UserError(404, "no_such_model", `Model ${modelId} is not one of this project's models.`);
+  if (m.status !== "published" || !m.layerPrefix || !m.result) throw new UserError(409, "not_published", `Model ${m.id} is not published (it is ${m.effectiveStatus}): validate it once it is.`);
+  return validateRaster(await modelSubject(m), viewer, options);
+}
+
+/** Published models as options of the validation page's picker — none for roles without models.read. */
+export async function modelValidationOptions(projectId: number, role: Role): Promise<{ kind: "model"; id: number; label: string }[]> {
+  if (!can(role, "models.read")) return [];
+  return (await listModels(projectId)).filter((m) => m.effectiveStatus === "published").map((m) => ({ kind: "model" as const, id: m.id, label: `${m.name} (${(m.params as unknown as ModelParams).ageKa} ka)` }));
 }

@@ -67,6 +67,7 @@ export default [
   route("api/projects/:projectId/models", "routes/api.project-models.ts"),
   route("api/models/:id", "routes/api.model.ts"),
   route("api/models/:id/raster", "routes/api.model-raster.ts"),
+  route("api/models/:id/validation", "routes/api.model-validation.ts"),
   route("api/scorings/:id/validation", "routes/api.scoring-validation.ts"),
   route("api/projects/:projectId/classification", "routes/api.project-classification.ts"),
   route("api/projects/:projectId/holdout", "routes/api.project-holdout.ts"),

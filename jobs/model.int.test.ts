@@ -25,6 +25,7 @@ import * as apiRecons from "~/routes/api.project-reconstructions";
 import * as apiModels from "~/routes/api.project-models";
 import * as apiModel from "~/routes/api.model";
 import * as apiRaster from "~/routes/api.model-raster";
+import * as apiValidation from "~/routes/api.model-validation";
 import { stopBoss } from "./boss.server";
 import { buildWorld, callWith, ORIGIN, type World } from "../tests/support/world";
 import { FAST_JOB_SETTINGS, startWorker, stopWorkers, waitFor } from "../tests/support/workers";
@@ -246,6 +247,22 @@ describe("a trained model", () => {
     const r = await getModelApi(modelId, reviewerToken);
     expect(r.status).toBe(200);
     expect((await raster(modelId, "", reviewerToken)).status).toBe(200);
+  });
+
+  it("is validated against the sites as a scoring is, stored and reused", async () => {
+    const get = (t = token) => callWith(apiValidation.loader, new Request(new URL(`/api/models/${modelId}/validation`, ORIGIN), { headers: auth(t) }), { id: String(modelId) });
+    const res = await get();
+    expect(res.status, await res.clone().text()).toBe(200);
+    const v = (await res.json()).validation;
+    expect(v.status).toBe("ok");
+    // the same presences the model counts: in-situ sites and the positive core; derived finds and
+    // negative cores never counted (validations.server.ts rules, issue 10)
+    expect(v.counts).toMatchObject({ presences: IN_SITU + POSITIVE_CORES, sites: IN_SITU, cores: POSITIVE_CORES });
+    expect(v.auc.estimate).toBeGreaterThanOrEqual(0);
+    expect(v.auc.estimate).toBeLessThanOrEqual(1);
+    expect(v.reused).toBe(false);
+    expect((await (await get()).json()).validation.reused).toBe(true);
+    expect((await get(world.viewerToken)).status).toBe(403);
   });
 
   it("gives a viewer no model, no card and no raster", async () => {

@@ -1,7 +1,7 @@
 // One trained model: progress while it trains (refreshed every second), then its card — inputs,
 // sample counts, parameters, out-of-fold AUC and gain with their spread, training time — and the
 // probability raster's download. A refusal shows the numbers the job counted. models.read only.
-import { useEffect } from "react";
+import { useEffect, useState } from "react";
 import { Link, useRevalidator } from "react-router";
 import { requireProjectAccess } from "~/permissions.server";
 import { getModel, modelView } from "~/models.server";
@@ -10,7 +10,42 @@ import { StatusBadge } from "~/components/StatusBadge";
 import { Cautions } from "~/components/Cautions";
 import { ModelCardView, type CardJson } from "~/components/models/ModelCardView";
 import { ModelRefusal, type RefusalNumbers } from "~/components/models/ModelRefusal";
+import { ValidationSummary } from "~/components/validation/ValidationSummary";
+import type { ValidationView } from "~/components/validation/types";
 import type { Route } from "./+types/project-model";
+
+/** The model held against the sites and cores as a scoring is (GET /api/models/:id/validation). */
+function ModelValidation({ projectId, modelId, name }: { projectId: number; modelId: number; name: string }) {
+  const [state, setState] = useState<{ v?: ValidationView; error?: string } | null>(null);
+  useEffect(() => {
+    const ctl = new AbortController();
+    fetch(`/api/models/${modelId}/validation`, { signal: ctl.signal })
+      .then(async (res) => {
+        const body = (await res.json()) as { validation?: ValidationView; error?: { message?: string } };
+        setState(res.ok && body.validation ? { v: body.validation } : { error: body.error?.message ?? `The validation could not be read (${res.status}).` });
+      })
+      .catch((e: unknown) => {
+        if ((e as Error).name !== "AbortError") setState({ error: "The validation could not be read; try again." });
+      });
+    return () => ctl.abort();
+  }, [modelId]);
+  return (
+    <section aria-labelledby="model-validation" className="rounded-md border border-sand-200 bg-white p-4 text-sm">
+      <h2 id="model-validation" className="font-semibold">
+        Against the sites, on the map
+      </h2>
+      <p className="mt-1 text-xs text-sediment-600">
+        The probability raster held against the project's sites and cores as a scoring's potential is. The model has seen these sites, so these figures flatter it: the out-of-fold
+        figures above are the fair ones. Compare it with a weight set on the{" "}
+        <Link className="underline" to={`/projects/${projectId}/validation`}>
+          Validation
+        </Link>{" "}
+        page.
+      </p>
+      {state === null ? <p className="mt-2 text-sediment-600">Validating…</p> : state.error ? <p className="mt-2">{state.error}</p> : <ValidationSummary name={name} v={state.v!} />}
+    </section>
+  );
+}
 
 export const meta = ({ data }: Route.MetaArgs) => [{ title: `${data?.model.name ?? "Model"} · Lowstand` }];
 
@@ -69,6 +104,7 @@ export default function ProjectModel({ loaderData }: Route.ComponentProps) {
       {fullCard ? (
         <>
           <ModelCardView card={fullCard} />
+          <ModelValidation projectId={projectId} modelId={model.id} name={model.name} />
           {result?.classes ? (
             <section aria-labelledby="raster-classes" className="rounded-md border border-sand-200 bg-white p-4 text-sm">
               <h2 id="raster-classes" className="font-semibold">

@@ -8,6 +8,7 @@ import { requireProjectAccess } from "~/permissions.server";
 import { can } from "~/permissions";
 import { listScorings, targetLabel, type ScoringTarget } from "~/scorings.server";
 import { adoptedVersion } from "~/weight-sets.server";
+import { modelValidationOptions } from "~/models.server";
 import { AGE_RULE, classificationView, holdoutState, storedClassification } from "~/validations.server";
 import { Cautions } from "~/components/Cautions";
 import { GainChart } from "~/components/validation/GainChart";
@@ -23,14 +24,17 @@ export const meta = () => [{ title: "Validation · Lowstand" }];
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { project, role } = await requireProjectAccess(request, params.projectId, "project.read");
   const mayEdit = can(role, "project.edit");
-  const [scorings, adopted, holdout] = await Promise.all([listScorings(project.id), adoptedVersion(project.id), mayEdit ? holdoutState(project.id) : null]);
+  const [scorings, adopted, holdout, modelOptions] = await Promise.all([listScorings(project.id), adoptedVersion(project.id), mayEdit ? holdoutState(project.id) : null, modelValidationOptions(project.id, role)]);
   const published = scorings.filter((s) => s.effectiveStatus === "published");
-  // Trained models join this list (kind "model") where the models page provides them.
-  const subjects: ValidationSubjectOption[] = published.map((s) => ({
-    kind: "scoring",
-    id: s.id,
-    label: `${s.version.setName} v${s.version.number}, ${targetLabel(s.target as unknown as ScoringTarget)}${adopted && adopted.version.id === s.weightSetVersionId ? " (adopted)" : ""}`,
-  }));
+  // Trained models join the list for roles that may see them (models.read; never viewers).
+  const subjects: ValidationSubjectOption[] = [
+    ...published.map((s) => ({
+      kind: "scoring" as const,
+      id: s.id,
+      label: `${s.version.setName} v${s.version.number}, ${targetLabel(s.target as unknown as ScoringTarget)}${adopted && adopted.version.id === s.weightSetVersionId ? " (adopted)" : ""}`,
+    })),
+    ...modelOptions,
+  ];
   const preferred = published.find((s) => adopted && s.weightSetVersionId === adopted.version.id) ?? published[0];
   return {
     projectId: project.id,
