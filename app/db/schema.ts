@@ -39,13 +39,13 @@ export const projects = pgTable(
     siteMinCount: integer("site_min_count").notNull().default(3),
     /**
      * The one project classification of potential (issue 10), used by gain, block figures,
-     * sensitivity and targets alike: { kind: "fixed", thresholds, labels } or { kind: "quantile",
-     * shares, thresholds (frozen), labels, frozenFrom }. See app/scoring/classification.ts.
+     * sensitivity and targets alike: app/scoring/classification.ts `ProjectClassification` —
+     * thresholds strictly decreasing, labels highest class first.
      */
     classification: jsonb("classification")
       .$type<Record<string, unknown>>()
       .notNull()
-      .default(sql`'{"kind":"fixed","thresholds":[0.25,0.5,0.75],"labels":["low","medium","high","very high"]}'::jsonb`),
+      .default(sql`'{"kind":"fixed","thresholds":[0.75,0.5,0.25],"labels":["very high","high","medium","low"]}'::jsonb`),
     /** When the lead last revealed the hold-out sites to the team (null: hidden). Audit-logged. */
     holdoutRevealedAt: timestamp("holdout_revealed_at", { withTimezone: true }),
     createdBy: integer("created_by").references(() => users.id, { onDelete: "set null" }),

@@ -1,0 +1,2 @@
+ALTER TABLE "projects" ALTER COLUMN "classification" SET DEFAULT '{"kind":"fixed","thresholds":[0.75,0.5,0.25],"labels":["very high","high","medium","low"]}'::jsonb;--> statement-breakpoint
+UPDATE "projects" SET "classification" = '{"kind":"fixed","thresholds":[0.75,0.5,0.25],"labels":["very high","high","medium","low"]}'::jsonb WHERE "classification" = '{"kind":"fixed","thresholds":[0.25,0.5,0.75],"labels":["low","medium","high","very high"]}'::jsonb;
