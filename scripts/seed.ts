@@ -6,7 +6,7 @@ import os from "node:os";
 import path from "node:path";
 import { and, eq, sql } from "drizzle-orm";
 import { db, pool } from "../app/db.server";
-import { memberships, projects, users } from "../app/db/schema";
+import { memberships, projects, siteRecords, users } from "../app/db/schema";
 import { hashPassword } from "../app/auth.server";
 import { recordAudit } from "../app/audit.server";
 import { ingestUpload } from "../app/datasets.server";
@@ -60,6 +60,10 @@ try {
     } finally {
       await fs.rm(tmp, { recursive: true, force: true });
     }
+
+    // The lead keeps one in-situ site back as the hold-out, hidden from the team's validation
+    // until it is revealed on the Validation page (issue 10).
+    await db().update(siteRecords).set({ heldOut: true }).where(and(eq(siteRecords.projectId, project.id), eq(siteRecords.label, "VEL-002")));
 
     const { reconstruction } = await startReconstruction(project, analystId, {
       name: "Demo: last deglaciation",
