@@ -8,6 +8,7 @@
 //   node scripts/bench/run.mjs [--size 1024,2048,4096] [--ages 5] [--threads 2] [--no-grass] [--no-write] [--json out.json] [--forest | --forest-only]
 //                              [--no-scoring | --scoring-only] [--scoring-size 1024]
 //                              [--live | --live-only]   (weighing sessions: NOTIFY and event-stream latency, scripts/bench/live.ts)
+//                              [--uncertainty | --uncertainty-only]   (1000 weight draws over 1 M cells, one thread and the pool, scripts/bench/uncertainty.ts)
 //
 // First, unless --no-scoring or --forest-only: the live re-scoring benchmark (scripts/bench/scoring.ts)
 // — lookup tables + scoreAge on a 1024² display grid with 8 factors as 8-bit codes, with and without
@@ -34,7 +35,7 @@ const opt = (k, d) => {
   return i >= 0 ? argv[i + 1] : d;
 };
 const flag = (k) => argv.includes(`--${k}`);
-const sizes = flag("forest-only") || flag("live-only") ? [] : String(opt("size", "1024,2048,4096")).split(",").map(Number); // --forest-only: the forest benchmark alone
+const sizes = flag("forest-only") || flag("live-only") || flag("uncertainty-only") ? [] : String(opt("size", "1024,2048,4096")).split(",").map(Number); // --forest-only: the forest benchmark alone
 const AGE_LIST = [20, 16, 14, 12, 10, 8, 18, 6, 15, 11];
 const agesOpt = String(opt("ages", "5"));
 const ages = agesOpt.includes(",") ? agesOpt.split(",").map(Number) : AGE_LIST.slice(0, Math.max(1, Math.min(AGE_LIST.length, Number(agesOpt))));
@@ -92,7 +93,7 @@ t "r.slope.aspect" r.slope.aspect elevation=dem slope=slope aspect=aspect --quie
 }
 
 const results = { machine: { cpus: cpus().length, model: cpus()[0]?.model, totalMemGiB: +(totalmem() / 2 ** 30).toFixed(1), node: process.version }, ages, threads, sizes: [] };
-if (!flag("no-scoring") && !flag("forest-only") && !flag("live-only")) {
+if (!flag("no-scoring") && !flag("forest-only") && !flag("live-only") && !flag("uncertainty-only")) {
   const r = spawnSync(process.execPath, [runTs, scoringBench, "--size", String(opt("scoring-size", "1024"))], { encoding: "utf8", maxBuffer: 1 << 24 });
   if (r.status !== 0) throw new Error(`scoring benchmark failed:\n${r.stderr}`);
   const lines = r.stdout.trim().split("\n");
@@ -144,6 +145,11 @@ if (flag("forest") || flag("forest-only")) {
 // every open event stream has it), with --live or --live-only; it prints its own table
 if (flag("live") || flag("live-only")) {
   const r = spawnSync(process.execPath, [runTs, path.join(here, "live.ts")], { stdio: "inherit" });
+  if (r.status !== 0) process.exitCode = 1;
+}
+// the uncertainty benchmark (scripts/bench/uncertainty.ts), with --uncertainty or --uncertainty-only
+if (flag("uncertainty") || flag("uncertainty-only")) {
+  const r = spawnSync(process.execPath, [runTs, path.join(here, "uncertainty.ts"), "--threads", String(threads), "--landscape", "3"], { stdio: "inherit" });
   if (r.status !== 0) process.exitCode = 1;
 }
 const jsonOut = opt("json");
