@@ -8,7 +8,7 @@ import { beforeAll, describe, expect, it } from "vitest";
 import routes from "./routes";
 import { db } from "./db.server";
 import { defaultWeightSetContent } from "./scoring/weight-set";
-import { datasets, jobRuns, reviews, models, reconstructions, scorings, weightSets, weightSetVersions } from "./db/schema";
+import { datasets, jobRuns, reviews, models, reconstructions, scorings, uncertaintyRuns, weightSets, weightSetVersions } from "./db/schema";
 import { eq } from "drizzle-orm";
 import { createWeightSet } from "./weight-sets.server";
 import { buildWorld, call, cookieFor, EVERYONE, headersFor, isRefusal, type CallOptions, type Who, type World } from "../tests/support/world";
@@ -248,6 +248,24 @@ const MATRIX: Record<string, Probe[]> = {
     { method: "GET", path: (w) => `/api/projects/${w.projectId}/scorings`, params: pid, expect: projectPage([...MEMBERS, "viewerToken"]) },
     { method: "POST", path: (w) => `/api/projects/${w.projectId}/scorings`, params: pid, options: { json: {} }, expect: projectPage(UPLOADERS) },
   ],
+  // Uncertainty runs are built on a weight set: every member (and a viewer's token, as for scorings)
+  // may read them; only analysts and above start one. The probe run never ran: its raster gives 409.
+  "routes/project-uncertainty.tsx": [
+    { method: "GET", path: (w) => `/projects/${w.projectId}/uncertainty`, params: pid, expect: projectPage(MEMBERS) },
+    { method: "POST", path: (w) => `/projects/${w.projectId}/uncertainty`, params: pid, options: { form: { reconstructionId: "" } }, expect: projectPage(UPLOADERS) },
+  ],
+  "routes/api.project-uncertainty.ts": [
+    { method: "GET", path: (w) => `/api/projects/${w.projectId}/uncertainty`, params: pid, expect: projectPage([...MEMBERS, "viewerToken"]) },
+    { method: "POST", path: (w) => `/api/projects/${w.projectId}/uncertainty`, params: pid, options: { json: {} }, expect: projectPage(UPLOADERS) },
+  ],
+  "routes/api.uncertainty.ts": [
+    { method: "GET", path: () => `/api/uncertainty/x`, params: () => ({ id: String(uncertaintyRunId) }), expect: projectPage([...MEMBERS, "viewerToken"]) },
+    { method: "POST", path: () => `/api/uncertainty/x`, params: () => ({ id: String(uncertaintyRunId) }), options: { json: {} }, expect: projectPage([...MEMBERS, "viewerToken"]) },
+  ],
+  "routes/api.uncertainty-raster.ts": [
+    { method: "GET", path: () => `/api/uncertainty/x/raster/p_high`, params: () => ({ id: String(uncertaintyRunId), name: "p_high" }), expect: projectPage([...MEMBERS, "viewerToken"]) },
+    { method: "POST", path: () => `/api/uncertainty/x/raster/p_high`, params: () => ({ id: String(uncertaintyRunId), name: "p_high" }), options: { json: {} }, expect: projectPage([...MEMBERS, "viewerToken"]) },
+  ],
   "routes/api.scoring.ts": [
     { method: "GET", path: () => `/api/scorings/x`, params: () => ({ id: String(scoringId) }), expect: projectPage([...MEMBERS, "viewerToken"]) },
     { method: "POST", path: () => `/api/scorings/x`, params: () => ({ id: String(scoringId) }), options: { json: {} }, expect: projectPage([...MEMBERS, "viewerToken"]) },
@@ -351,6 +369,7 @@ let datasetId: number;
 let reconstructionId: number;
 let jobId: string;
 let scoringId: number;
+let uncertaintyRunId = 0;
 let reviewId: number;
 let modelId: number;
 let weightSetId: number;
@@ -392,6 +411,12 @@ beforeAll(async () => {
     .values({ projectId: world.projectId, reconstructionId, weightSetVersionId: probeVersion.id, target: { kind: "age", ageKa: 12 }, inputsHash: "probe" })
     .returning({ id: scorings.id });
   scoringId = sc.id;
+  // An uncertainty run of it that never ran.
+  const [ur] = await db()
+    .insert(uncertaintyRuns)
+    .values({ projectId: world.projectId, reconstructionId, weightSetVersionId: probeVersion.id, target: { kind: "age", ageKa: 12 }, params: { draws: 10, seed: 1 }, inputsHash: "probe" })
+    .returning({ id: uncertaintyRuns.id });
+  uncertaintyRunId = ur.id;
   // An open review of that scoring (a hand-made snapshot: the gates do not read its files).
   const snapshot = {
     format: 1,

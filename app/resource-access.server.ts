@@ -3,7 +3,7 @@
 // learns nothing about whether the resource exists.
 import { eq } from "drizzle-orm";
 import { db } from "./db.server";
-import { datasets, jobRuns, models, reconstructions, reviews, scorings, weightSets } from "./db/schema";
+import { datasets, jobRuns, models, reconstructions, reviews, scorings, uncertaintyRuns, weightSets } from "./db/schema";
 import { requireProjectAccess } from "./permissions.server";
 import { requireIdentity } from "./auth.server";
 import { refusal } from "./security.server";
@@ -63,4 +63,10 @@ export async function requireModelAccess(request: Request, idParam: string | und
 export async function requireReviewAccess(request: Request, idParam: string | undefined, capability: Capability) {
   const access = await requireResourceAccess(request, idParam, NUMERIC, async (id) => (await db().select({ p: reviews.projectId }).from(reviews).where(eq(reviews.id, Number(id))))[0]?.p, capability, "no_such_review", "review");
   return { ...access, reviewId: Number(idParam) };
+}
+
+/** An uncertainty run (built on a weight set: every member may read it, as a scoring). */
+export async function requireUncertaintyAccess(request: Request, idParam: string | undefined, capability: Capability) {
+  const access = await requireResourceAccess(request, idParam, NUMERIC, async (id) => (await db().select({ p: uncertaintyRuns.projectId }).from(uncertaintyRuns).where(eq(uncertaintyRuns.id, Number(id))))[0]?.p, capability, "no_such_uncertainty_run", "uncertainty run");
+  return { ...access, uncertaintyRunId: Number(idParam) };
 }

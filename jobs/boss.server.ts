@@ -10,7 +10,7 @@ import { pool } from "../app/db.server";
  * Every job kind the product runs; each is a pg-boss queue of the same name. Add a kind here and
  * its definition in jobs/registry.ts.
  */
-export const PRODUCT_QUEUES = ["reconstruction", "scoring", "model"] as const;
+export const PRODUCT_QUEUES = ["reconstruction", "scoring", "model", "uncertainty"] as const;
 
 /** The kind used only by the job runner's own tests (LOWSTAND_TEST_JOBS=1). */
 export const TEST_QUEUE = "test.sleep";

@@ -5,12 +5,14 @@ import { testJobsEnabled } from "./boss.server";
 import { testSleepJob } from "./test-sleep";
 import { reconstructionJob } from "./reconstruction";
 import { scoringJob } from "./scoring";
+import { uncertaintyJob } from "./uncertainty";
 import { modelJob } from "./model";
 import type { JobDefinition } from "./wrapper";
 
 export const JOB_REGISTRY: Record<string, JobDefinition<any>> = {
   [reconstructionJob.kind]: reconstructionJob,
   [scoringJob.kind]: scoringJob,
+  [uncertaintyJob.kind]: uncertaintyJob,
   [modelJob.kind]: modelJob,
 };
 

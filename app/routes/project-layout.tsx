@@ -19,6 +19,7 @@ export default function ProjectLayout({ loaderData }: Route.ComponentProps) {
   const links = [
     { to: `/projects/${project.id}/map`, label: "Map", end: false, show: true },
     { to: `/projects/${project.id}/weights`, label: "Weights", end: false, show: true },
+    { to: `/projects/${project.id}/uncertainty`, label: "Uncertainty", end: false, show: true },
     { to: `/projects/${project.id}/validation`, label: "Validation", end: false, show: true },
     { to: `/projects/${project.id}`, label: "Overview", end: true, show: true },
     { to: `/projects/${project.id}/data`, label: "Data", end: false, show: true },
