@@ -391,6 +391,12 @@ describe("the project classification", () => {
     expect(c.classification.kind).toBe("quantile");
     expect(c.classification.frozenFrom.scoringId).toBe(gainScoringId);
     expect(c.classification.achievedShares.map((s) => +s.toFixed(6))).toEqual([0.6, 0.3, 0.1]);
+    // stored as app/scoring/classification.ts reads it: thresholds decreasing, highest class first
+    const [row] = await db().select({ c: projects.classification }).from(projects).where(eq(projects.id, world.projectId));
+    const stored = row.c as { thresholds: number[]; labels: string[]; quantile: { requestedShares: number[] } };
+    expect(stored.thresholds).toEqual([...c.classification.thresholds].reverse());
+    expect(stored.labels).toEqual(["high", "medium", "low"]);
+    expect(stored.quantile.requestedShares).toEqual([0.1, 0.3, 0.6]);
     const { body } = await validation("lead", gainScoringId);
     expect(body.validation.reused).toBe(false);
     expect(body.validation.gain.rows.map((r) => r.sites)).toEqual([24, 12, 4]);

@@ -83,7 +83,11 @@ export const classificationBody = z.discriminatedUnion(
 );
 export type ClassificationBody = z.infer<typeof classificationBody>;
 
-/** The classification as stored in projects.classification: thresholds ascending, labels lowest class first. */
+/**
+ * The classification as the API and the page give it: thresholds ascending, labels lowest class
+ * first. (projects.classification itself holds app/scoring/classification.ts's ProjectClassification,
+ * highest class first, plus `frozenFrom` for quantile classes.)
+ */
 export interface StoredClassification {
   kind: "fixed" | "quantile";
   thresholds: number[];
@@ -91,22 +95,32 @@ export interface StoredClassification {
   /** quantile only: requested and achieved shares (lowest class first) and where they were frozen from */
   shares?: number[];
   achievedShares?: number[];
-  frozenFrom?: { scoringId: number; reference: string; bins: number; min: number; max: number; cells: number; frozenAt: string };
+  frozenFrom?: { scoringId: number | null; reference: string; bins: number; min: number; max: number; cells: number; frozenAt: string | null };
 }
 
 const DEFAULT_STORED: StoredClassification = { kind: "fixed", thresholds: [0.25, 0.5, 0.75], labels: ["low", "medium", "high", "very high"] };
 
-/** Reads what is stored, tolerating either threshold order, into the stored shape (ascending). */
+type RawClassification = Partial<ProjectClassification> & { frozenFrom?: { scoringId?: number; frozenAt?: string } };
+
+/**
+ * What projects.classification holds — ProjectClassification (thresholds decreasing), or the
+ * ascending form an older installation may still hold — in the API's ascending shape.
+ */
 export function storedClassification(raw: unknown): StoredClassification {
-  const r = (raw ?? {}) as Partial<StoredClassification>;
+  const r = (raw ?? {}) as RawClassification;
   if (!Array.isArray(r.thresholds) || r.thresholds.length === 0 || !r.thresholds.every((t) => typeof t === "number" && Number.isFinite(t))) return DEFAULT_STORED;
-  let thresholds = [...r.thresholds];
-  let labels = Array.isArray(r.labels) && r.labels.length === thresholds.length + 1 ? r.labels.map(String) : null;
-  if (thresholds.length > 1 && thresholds[0] > thresholds[1]) {
-    thresholds = thresholds.reverse();
-    labels = labels ? labels.reverse() : null;
+  const descending = r.thresholds.length === 1 ? true : r.thresholds[0] > r.thresholds[1];
+  const flip = <T,>(a: T[]) => (descending ? [...a].reverse() : [...a]);
+  const thresholds = flip(r.thresholds);
+  const labels = Array.isArray(r.labels) && r.labels.length === thresholds.length + 1 ? flip(r.labels.map(String)) : defaultLabels(thresholds.length + 1);
+  const out: StoredClassification = { kind: r.kind === "quantile" ? "quantile" : "fixed", thresholds, labels };
+  const q = r.quantile;
+  if (out.kind === "quantile" && q) {
+    out.shares = flip(q.requestedShares);
+    out.achievedShares = flip(q.achievedShares);
+    out.frozenFrom = { scoringId: r.frozenFrom?.scoringId ?? null, reference: q.reference, bins: q.bins, min: q.min, max: q.max, cells: q.cells, frozenAt: r.frozenFrom?.frozenAt ?? null };
   }
-  return { ...r, kind: r.kind === "quantile" ? "quantile" : "fixed", thresholds, labels: labels ?? defaultLabels(thresholds.length + 1) } as StoredClassification;
+  return out;
 }
 
 function defaultLabels(k: number): string[] {
@@ -114,10 +128,7 @@ function defaultLabels(k: number): string[] {
   return names[k] ?? Array.from({ length: k }, (_, c) => `class ${c + 1}`);
 }
 
-/**
- * The project classification in app/scoring/classification.ts's form (thresholds decreasing, highest
- * class first) — what gain, block figures, sensitivity and targets all classify with.
- */
+/** The API's ascending shape as app/scoring/classification.ts's ProjectClassification (highest class first). */
 export function toProjectClassification(stored: StoredClassification): ProjectClassification {
   const c: ProjectClassification = { kind: stored.kind, thresholds: [...stored.thresholds].reverse(), labels: [...stored.labels].reverse() };
   if (stored.kind === "quantile" && stored.frozenFrom && stored.shares && stored.achievedShares)
@@ -209,7 +220,9 @@ export async function setClassification(projectId: number, body: ClassificationB
   }
   await db().transaction(async (tx) => {
     const [before] = await tx.select({ c: projects.classification }).from(projects).where(eq(projects.id, projectId)).for("update");
-    await tx.update(projects).set({ classification: next as unknown as Record<string, unknown> }).where(eq(projects.id, projectId));
+    // stored as classification.ts reads it (highest class first), with where quantiles came from
+    const row = { ...toProjectClassification(next), ...(next.frozenFrom ? { frozenFrom: { scoringId: next.frozenFrom.scoringId, frozenAt: next.frozenFrom.frozenAt } } : {}) };
+    await tx.update(projects).set({ classification: row as unknown as Record<string, unknown> }).where(eq(projects.id, projectId));
     await recordAudit(tx, { actorUserId: userId, projectId, action: "classification.changed", detail: { before: storedClassification(before?.c), after: next }, clientAddress: meta.clientAddress });
   });
   return next;
