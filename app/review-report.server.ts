@@ -3,9 +3,9 @@
 // weight-set version (an immutable row), the classification as frozen — never from "the newest".
 // Sections whose source is not built yet say so plainly; no number is invented.
 import { createHash } from "node:crypto";
-import { eq } from "drizzle-orm";
+import { asc, eq } from "drizzle-orm";
 import { db } from "./db.server";
-import { scorings, weightSetVersions } from "./db/schema";
+import { datasets, projects, scorings, weightSetVersions } from "./db/schema";
 import { UserError } from "./errors";
 import { store } from "./storage.server";
 import { readGeoTiff } from "./terrain/geotiff-read";
@@ -14,9 +14,33 @@ import { potentialRgba } from "./components/scoring/render";
 import { factorDef } from "./scoring/factors";
 import { controlPointNames, type FactorCurve } from "./scoring/factor-curves";
 import { ahpWeights, matrixFromUpperTriangle } from "./scoring/ahp";
-import { classAreas, fixedClassification, type ProjectClassification } from "./scoring/classification";
+import { classAreas, type ProjectClassification } from "./scoring/classification";
 import type { WeightSetContent } from "./scoring/weight-set";
 import type { ReviewSnapshot, ReviewView } from "./reviews.server";
+import { canonicalJson } from "./weight-sets.server";
+import { blockFigures, classificationOf, conflictTable, exclusionZones, mitigationZones } from "./regulator.server";
+import { getUncertaintyRun, uncertaintyView } from "./uncertainty.server";
+import { DEFAULT_EXCLUSION_BUFFERS_M, type ExclusionBuffers } from "./scoring/zones";
+import type { Viewer } from "./sites.server";
+
+/** The dataset kinds the review desk's figures read (conflicts, blocks, exclusion zones). */
+const DESK_KINDS = ["development_footprint", "lease_blocks", "exclusions", "interpretations", "known_sites"];
+
+/**
+ * Why the desk figures (conflict table, block figures, zones) cannot be shown as frozen: they read
+ * the project's classification and its datasets of the desk's kinds, so they are the snapshot's only
+ * while those are as the snapshot froze them. Empty when unchanged.
+ */
+export async function deskChanges(snap: ReviewSnapshot): Promise<string[]> {
+  const reasons: string[] = [];
+  const [p] = await db().select({ classification: projects.classification }).from(projects).where(eq(projects.id, snap.project.id));
+  if (!p || canonicalJson(p.classification) !== canonicalJson(snap.classification)) reasons.push("the project classification changed");
+  const frozen = new Map(snap.datasets.map((d) => [d.id, d.sha256]));
+  const now = await db().select({ id: datasets.id, kind: datasets.kind, name: datasets.name, sha256: datasets.sha256 }).from(datasets).where(eq(datasets.projectId, snap.project.id)).orderBy(asc(datasets.id));
+  const added = now.filter((d) => DESK_KINDS.includes(d.kind) && frozen.get(d.id) !== d.sha256);
+  if (added.length) reasons.push(`dataset${added.length === 1 ? "" : "s"} ${added.map((d) => `“${d.name}”`).join(", ")} arrived since`);
+  return reasons;
+}
 
 /** The rasters a review's report draws as maps (those of the frozen scoring). */
 export const REVIEW_MAPS = ["potential", "occupation", "preservation"] as const;
@@ -75,19 +99,15 @@ export async function reviewMapPng(review: ReviewLike, name: ReviewMap, maxSide 
 }
 
 /**
- * The classification the review froze, as classification.ts expects it (thresholds decreasing,
- * labels highest first). A stored classification with increasing thresholds (the table's default
- * is written lowest first) is read in the other order; one that cannot be read is reported, not guessed.
+ * The classification the review froze, read as classification.ts expects it (regulator.server.ts's
+ * reading of the stored form); one that cannot be read is reported, not guessed.
  */
 export function frozenClassification(stored: Record<string, unknown>): { classification: ProjectClassification | null; problem: string | null } {
-  const thresholds = Array.isArray(stored.thresholds) ? (stored.thresholds as unknown[]).map(Number) : [];
-  const labels = Array.isArray(stored.labels) ? (stored.labels as unknown[]).map(String) : undefined;
   try {
-    const increasing = thresholds.length > 1 && thresholds.every((t, i) => i === 0 || t > thresholds[i - 1]);
-    const c = increasing ? fixedClassification([...thresholds].reverse(), labels ? [...labels].reverse() : undefined) : fixedClassification(thresholds, labels);
-    return { classification: { ...c, kind: stored.kind === "quantile" ? "quantile" : "fixed", ...(stored.quantile ? { quantile: stored.quantile as ProjectClassification["quantile"] } : {}) }, problem: null };
+    return { classification: classificationOf(stored), problem: null };
   } catch (e) {
-    return { classification: null, problem: `The frozen classification cannot be read: ${(e as Error).message}` };
+    if (e instanceof UserError) return { classification: null, problem: `The frozen classification cannot be read: ${e.message}` };
+    throw e;
   }
 }
 
@@ -107,8 +127,8 @@ const CITATIONS = {
   ahp: "Saaty, T.L. (1980) The Analytic Hierarchy Process: Planning, Priority Setting, Resource Allocation. McGraw-Hill, New York; group judgements: Aczél, J. & Saaty, T.L. (1983) Journal of Mathematical Psychology 27, 93–102.",
 };
 
-/** Everything the printable report shows, from the review's frozen snapshot. */
-export async function reviewReport(review: ReviewView) {
+/** Everything the printable report shows, from the review's frozen snapshot; `viewer` decides how known sites are counted (design §9). */
+export async function reviewReport(review: ReviewView, viewer: Viewer | null = null) {
   const snap = review.snapshot;
   const { classification, problem: classificationProblem } = frozenClassification(snap.classification);
 
@@ -178,8 +198,50 @@ export async function reviewReport(review: ReviewView) {
     }
   }
 
+  // The review desk's figures, on the frozen scoring with the frozen buffers, while their other inputs are unchanged.
+  let desk: null | {
+    conflicts: Awaited<ReturnType<typeof conflictTable>>;
+    blocks: Awaited<ReturnType<typeof blockFigures>>;
+    /** zones without their geometry: the report lists them, and exact find-spot outlines never leave the server here */
+    exclusion: { buffersM: Record<string, number>; notes: string[]; zones: Record<string, unknown>[] };
+    mitigation: { notes: string[]; zones: Record<string, unknown>[] };
+  } = null;
+  let deskProblem: string | null = null;
+  if (!snap.scoring) deskProblem = "The review desk reads a weight-set scoring; this review looks at a trained model.";
+  else {
+    const changed = await deskChanges(snap);
+    if (changed.length) deskProblem = `Not shown: ${changed.join("; ")}, so figures computed now would not be those of the snapshot.`;
+    else {
+      try {
+        const buffers = (snap.exclusionBuffersM ?? DEFAULT_EXCLUSION_BUFFERS_M) as ExclusionBuffers;
+        const opts = { scoringId: snap.scoring.id, viewer };
+        const exclusion = await exclusionZones(snap.project.id, { viewer, buffers });
+        const mitigation = await mitigationZones(snap.project.id, opts);
+        desk = {
+          conflicts: await conflictTable(snap.project.id, opts),
+          blocks: await blockFigures(snap.project.id, opts),
+          exclusion: { buffersM: exclusion.buffersM, notes: exclusion.notes, zones: exclusion.features.map((f) => f.properties) },
+          mitigation: { notes: mitigation.notes, zones: mitigation.features.map((f) => f.properties) },
+        };
+      } catch (e) {
+        if (!(e instanceof UserError)) throw e;
+        deskProblem = e.message;
+      }
+    }
+  }
+
+  // The frozen uncertainty run's published result (immutable once published).
+  let uncertainty: null | ReturnType<typeof uncertaintyView> = null;
+  if (snap.uncertaintyRun) {
+    const run = await getUncertaintyRun(snap.uncertaintyRun.id);
+    uncertainty = run ? uncertaintyView(run) : null;
+  }
+
   return {
     review,
+    desk,
+    deskProblem,
+    uncertainty,
     classification,
     classificationProblem,
     methods,

@@ -173,7 +173,7 @@ describe("opening a review", () => {
     expect(s.scoring?.files.map((f) => f.name)).toEqual(["occupation", "potential", "unassessed"]);
     const potentialBytes = await store().getBytes(`scorings/p${world.projectId}/s-test/potential.tif`);
     expect(s.scoring?.files.find((f) => f.name === "potential")?.sha256).toBe(sha(potentialBytes));
-    expect(s.classification).toMatchObject({ kind: "fixed", thresholds: [0.25, 0.5, 0.75] });
+    expect(s.classification).toMatchObject({ kind: "fixed", thresholds: [0.75, 0.5, 0.25], labels: ["very high", "high", "medium", "low"] });
     expect(s.datasets.map((d) => [d.id, d.sha256])).toEqual([[coresDatasetId, "c0ffee"]]);
     // The hash is the SHA-256 of the canonical JSON of exactly what is stored.
     const row = (await getReviewRow(review.id))!;
@@ -316,7 +316,7 @@ describe("the report's figures", () => {
     const id = ((await (await openAs("owner", { title: "Figures", scoringId })).json()) as { review: { id: number } }).review.id;
     const report = await reviewReport(await reviewView((await getReviewRow(id))!));
     // Hand count over POTENTIAL (common practice, no source: classes ≥ lower threshold, highest first),
-    // the stored default thresholds 0.25/0.5/0.75 read highest first; 15 occupiable cells of 0.01 km².
+    // the project's default thresholds 0.75/0.5/0.25; 15 occupiable cells of 0.01 km².
     // very high ≥ 0.75: 0.9, 0.8, 0.76 → 3; high 0.5–0.75: 0.6, 0.55, 0.74, 0.5 → 4;
     // medium 0.25–0.5: 0.3, 0.49, 0.26 → 3; low < 0.25: 0.2, 0.1, 0.05, 0.24 → 4; the unassessed cell in none.
     expect(report.classes?.map((c) => [c.label, Math.round(c.areaKm2 * 1e6) / 1e6, Math.round(c.share * 1e6) / 1e6])).toEqual([
@@ -371,5 +371,20 @@ describe("what a review refers to", () => {
     const e2 = await deleteDataset(world.projectId, coresDatasetId, world.userIds.analyst).catch((e) => e);
     expect(e2).toMatchObject({ status: 409, code: "referenced_by_review" });
     expect((await db().select().from(datasets).where(eq(datasets.id, coresDatasetId))).length).toBe(1);
+  });
+
+  it("shows the desk's figures on the frozen scoring, and withholds them once the desk's data change", async () => {
+    const [r] = await db().select().from(reviews).orderBy(reviews.id).limit(1);
+    const before = await reviewReport(await reviewView(r), { userId: world.userIds.viewer, role: "viewer" });
+    expect(before.deskProblem).toBeNull();
+    expect(before.desk?.conflicts.scoring.id).toBe(scoringId);
+    expect(before.desk?.blocks.rows).toEqual([]);
+    expect(before.desk?.exclusion.buffersM).toEqual({ wreck: 100, anomaly: 50, find_spot: 50 });
+    await db()
+      .insert(datasets)
+      .values({ projectId: world.projectId, kind: "lease_blocks", name: "Round 5 blocks", format: "geojson", originalKey: "uploads/x/b.json", originalName: "b.geojson", sizeBytes: 10, sha256: "b10c", derivedKey: "datasets/x/b.json", derivedFormat: "geojson", crsEpsg: 32733, count: 2 });
+    const after = await reviewReport(await reviewView(r), { userId: world.userIds.viewer, role: "viewer" });
+    expect(after.desk).toBeNull();
+    expect(after.deskProblem).toBe("Not shown: dataset “Round 5 blocks” arrived since, so figures computed now would not be those of the snapshot.");
   });
 });

@@ -11,16 +11,17 @@ import { refusal } from "~/security.server";
 import { formatBytes, formatUtc } from "~/format";
 import { SnapshotTable } from "~/components/review/SnapshotTable";
 import { Cautions } from "~/components/Cautions";
+import { BlocksSection, ConflictSection, UncertaintySection, ZonesSection } from "~/components/review/ReportSections";
 import "~/components/review/report.css";
 import type { Route } from "./+types/project-review-report";
 
 export const meta = ({ data }: Route.MetaArgs) => [{ title: `Report: ${data?.report.review.title ?? "review"} · Lowstand` }];
 
 export async function loader({ request, params }: Route.LoaderArgs) {
-  const { project } = await requireProjectAccess(request, params.projectId, "project.read");
+  const { project, identity, role } = await requireProjectAccess(request, params.projectId, "project.read");
   const row = params.reviewId && /^\d{1,9}$/.test(params.reviewId) ? await getReviewRow(Number(params.reviewId)) : null;
   if (!row || row.projectId !== project.id) throw refusal(request, 404, "no_such_review", "There is no such review in this project.");
-  const report = await reviewReport(await reviewView(row));
+  const report = await reviewReport(await reviewView(row), { userId: identity.user.id, role });
   return { projectId: project.id, projectName: project.name, report, printedAt: new Date().toISOString() };
 }
 
@@ -31,7 +32,7 @@ const num = (x: number | null | undefined, d = 3) => (x === null || x === undefi
 function NotAvailable({ what }: { what: string }) {
   return (
     <p className="not-available" data-testid="not-available">
-      {what} is not available in this report yet: the product does not compute it from a frozen snapshot so far. No figure is shown rather than one from the current data.
+      {what} is not drawn in this report yet. No figure is shown rather than one from other data.
     </p>
   );
 }
@@ -270,22 +271,22 @@ export default function ReviewReportPage({ loaderData }: Route.ComponentProps) {
 
         <section aria-labelledby="r-conflicts">
           <h2 id="r-conflicts">5. Conflict table</h2>
-          <NotAvailable what="The conflict table (development assets against the preserved horizon)" />
+          <ConflictSection report={report} />
         </section>
 
         <section aria-labelledby="r-blocks">
           <h2 id="r-blocks">6. Lease-block figures</h2>
-          <NotAvailable what="The lease-block figures" />
+          <BlocksSection report={report} />
         </section>
 
         <section aria-labelledby="r-uncertainty">
           <h2 id="r-uncertainty">7. Uncertainty</h2>
-          {s.uncertaintyRun ? <NotAvailable what={`The figures of uncertainty run #${s.uncertaintyRun.id}`} /> : <p>No uncertainty run was frozen with this review: the potential above is shown without its spread.</p>}
+          <UncertaintySection report={report} />
         </section>
 
         <section aria-labelledby="r-zones">
           <h2 id="r-zones">8. Mitigation and exclusion zones</h2>
-          <NotAvailable what="The mitigation and exclusion zones" />
+          <ZonesSection report={report} />
         </section>
 
         <section aria-labelledby="r-decision">
