@@ -85,7 +85,7 @@ async function upload(kind: string, bytes: Uint8Array, fileName: string, extra: 
 }
 
 const pid = () => ({ projectId: String(world.projectId) });
-async function get(fn: typeof apiConflicts.loader, path: string, who = "reviewer") {
+async function get(fn: Parameters<typeof callWith>[0], path: string, who = "reviewer") {
   return callWith(fn, new Request(new URL(path, ORIGIN), { headers: { Authorization: `Bearer ${tokens[who]}` } }), pid());
 }
 async function put(body: unknown, who = "reviewer") {
