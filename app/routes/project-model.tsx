@@ -73,7 +73,7 @@ export default function ProjectModel({ loaderData }: Route.ComponentProps) {
   const fullCard = card && model.status === "published" && "method" in card ? (card as CardJson) : null;
   const result = model.result as { classes?: { label: string; areaKm2: number; share: number }[]; probability?: { areaKm2: number; mean: number | null } } | null;
   return (
-    <div className="max-w-5xl space-y-5">
+    <div className="max-w-5xl space-y-5" data-testid="model-page" data-status={model.status}>
       <p className="text-sm">
         <Link className="underline" to={`/projects/${projectId}/models`}>
           Models
