@@ -95,6 +95,11 @@ test.describe("a regulator's review", () => {
     const map = page.getByTestId("map-potential");
     await expect.poll(() => map.evaluate((img: HTMLImageElement) => img.complete && img.naturalWidth), { timeout: 30_000 }).toBeGreaterThan(0);
     await expect(page.getByTestId("class-areas")).toBeVisible();
+    // The desk's figures on the frozen scoring: the demo's turbines and export cable, its lease blocks, the zones.
+    await expect(page.getByTestId("report-conflicts")).toContainText("EC-1");
+    await expect(page.getByTestId("report-blocks").locator("tbody tr").first()).toBeVisible();
+    await expect(page.getByTestId("report-mitigation")).toBeVisible();
+    await expect(report.getByTestId("not-available")).toHaveCount(0);
     // The history lists the signed review.
     await page.goto(`/projects/${projectId}/reviews`);
     await expect(page.getByTestId("review-history").locator("tr[data-status=decided]")).toContainText("Corrastan array, pre-consent");
