@@ -84,6 +84,8 @@ const DERIVED = 3;
 const POSITIVE_CORES = 1;
 const NEGATIVE_CORES = 2;
 const siteXs: number[] = [];
+/** cells of the presences (in-situ sites, then the positive core) */
+const presenceCells: number[] = [];
 
 /** Cell centre in the project CRS. */
 const centre = (cell: number): [number, number] => [ORIGIN_X + ((cell % SIZE) + 0.5) * CELL, ORIGIN_Y - (Math.floor(cell / SIZE) + 0.5) * CELL];
@@ -125,6 +127,7 @@ beforeAll(async () => {
   for (let k = 0; k < IN_SITU; k++) {
     const [x, y] = centre(pick(k, IN_SITU + DERIVED));
     siteXs.push(x);
+    presenceCells.push(pick(k, IN_SITU + DERIVED));
     sites.push(`CS-${k + 1},${x},${y},10,hearth,in_situ,12200,11800`);
   }
   for (let k = 0; k < DERIVED; k++) {
@@ -134,6 +137,7 @@ beforeAll(async () => {
   await upload("known_sites", sites.join("\n") + "\n", "corrie-sites.csv");
   const cores = ["core_id,x,y,horizon_reached,preserved_land_surface,archaeological_indicators,lab_code,cal_from,cal_to"];
   const [cx, cy] = centre(good[Math.floor(good.length / 3) + 1]);
+  presenceCells.push(good[Math.floor(good.length / 3) + 1]);
   cores.push(`CC-1,${cx},${cy},yes,yes,burnt flint,CR-1,12100,11900`);
   for (let k = 0; k < NEGATIVE_CORES; k++) {
     const [nx, ny] = centre(good[Math.floor(((k + 1) * good.length) / 4) + 2]);
@@ -298,6 +302,30 @@ describe("refusals", () => {
     expect(res.body.error.message).toContain(`only ${IN_SITU + POSITIVE_CORES} remain`);
     expect(res.body.error.message).toContain(`${DERIVED} derived find`);
     expect(await modelCount()).toBe(before);
+  });
+
+  it("refuses in the job when presences have no factor value, with the count, and keeps the numbers", async () => {
+    // flooding_age has no value on ground still land at the window's young end (docs/layers.md):
+    // the request passes the count before queueing (13 presences), the job finds fewer with values.
+    const [r] = await db().select().from(reconstructions).where(eq(reconstructions.id, reconstructionId));
+    const fa = (await layerGrid(layerKey(r, "flooding_age", null)!, manifest, manifest.layers.find((l) => l.name === "flooding_age")!)).data;
+    const withValue = presenceCells.filter((c) => fa[c] === fa[c]).length;
+    expect(withValue, "some presences must lie on ground that never drowned").toBeLessThan(IN_SITU + POSITIVE_CORES);
+    const res = await postModel({ reconstructionId, ageKa: 12, factors: ["flooding_age", "slope"], settings: { ...SMALL, minSites: IN_SITU + POSITIVE_CORES } });
+    expect(res.status, JSON.stringify(res.body)).toBe(202);
+    const id = res.body.model.id;
+    const m = await waitFor(`model ${id} to be refused`, async () => {
+      const [row] = await db().select().from(models).where(eq(models.id, id));
+      return row.status === "failed" ? row : null;
+    }, 60_000);
+    expect(m.error).toContain(`only ${withValue} remain`);
+    expect(m.error).toContain(`${IN_SITU + POSITIVE_CORES - withValue} no factor value at its cell`);
+    expect(m.layerPrefix).toBeNull();
+    const view = JSON.parse((await getModelApi(id)).text).model;
+    expect(view).toMatchObject({ status: "failed", card: { refused: true, presences: withValue, minimum: IN_SITU + POSITIVE_CORES } });
+    expect(view.card.excluded["no factor value at its cell"]).toBe(IN_SITU + POSITIVE_CORES - withValue);
+    expect(view.downloads).toEqual([]);
+    expect((await raster(id)).status).toBe(409);
   });
 
   it("refuses bad requests with their message and stores nothing", async () => {
