@@ -8,7 +8,7 @@ import { beforeAll, describe, expect, it } from "vitest";
 import routes from "./routes";
 import { db } from "./db.server";
 import { defaultWeightSetContent } from "./scoring/weight-set";
-import { datasets, jobRuns, reviews, models, reconstructions, scorings, uncertaintyRuns, weightSets, weightSetVersions } from "./db/schema";
+import { datasets, jobRuns, reviews, models, reconstructions, scorings, uncertaintyRuns, weightSets, weightSetVersions, targetLists, targets } from "./db/schema";
 import { eq } from "drizzle-orm";
 import { createWeightSet } from "./weight-sets.server";
 import { buildWorld, call, cookieFor, EVERYONE, headersFor, isRefusal, type CallOptions, type Who, type World } from "../tests/support/world";
@@ -240,6 +240,9 @@ const MATRIX: Record<string, Probe[]> = {
     { method: "GET", path: (w) => `/api/projects/${w.projectId}/zones?kind=exclusion`, params: pid, expect: projectPage([...MEMBERS, "viewerToken"]) },
     { method: "POST", path: (w) => `/api/projects/${w.projectId}/zones`, params: pid, options: { json: {} }, expect: projectPage([...MEMBERS, "viewerToken"]) },
   ],
+  "routes/api.project-desk-map.ts": [
+    { method: "GET", path: (w) => `/api/projects/${w.projectId}/regulator/map.png`, params: pid, expect: projectPage([...MEMBERS, "viewerToken"]) },
+  ],
   "routes/api.project-exclusion-settings.ts": [
     { method: "GET", path: (w) => `/api/projects/${w.projectId}/exclusion-settings`, params: pid, expect: projectPage([...MEMBERS, "viewerToken"]) },
     { method: "PUT", path: (w) => `/api/projects/${w.projectId}/exclusion-settings`, params: pid, options: { json: { wreck: -1 } }, expect: projectPage(["owner", "lead", "reviewer"]) },
@@ -252,11 +255,11 @@ const MATRIX: Record<string, Probe[]> = {
   // may read them; only analysts and above start one. The probe run never ran: its raster gives 409.
   "routes/project-uncertainty.tsx": [
     { method: "GET", path: (w) => `/projects/${w.projectId}/uncertainty`, params: pid, expect: projectPage(MEMBERS) },
-    { method: "POST", path: (w) => `/projects/${w.projectId}/uncertainty`, params: pid, options: { form: { reconstructionId: "" } }, expect: projectPage(UPLOADERS) },
+    { method: "POST", path: (w) => `/projects/${w.projectId}/uncertainty`, params: pid, options: { form: { reconstructionId: "" } }, expect: projectPage([...UPLOADERS, "reviewer"]) },
   ],
   "routes/api.project-uncertainty.ts": [
     { method: "GET", path: (w) => `/api/projects/${w.projectId}/uncertainty`, params: pid, expect: projectPage([...MEMBERS, "viewerToken"]) },
-    { method: "POST", path: (w) => `/api/projects/${w.projectId}/uncertainty`, params: pid, options: { json: {} }, expect: projectPage(UPLOADERS) },
+    { method: "POST", path: (w) => `/api/projects/${w.projectId}/uncertainty`, params: pid, options: { json: {} }, expect: projectPage([...UPLOADERS, "reviewer"]) },
   ],
   "routes/api.uncertainty.ts": [
     { method: "GET", path: () => `/api/uncertainty/x`, params: () => ({ id: String(uncertaintyRunId) }), expect: projectPage([...MEMBERS, "viewerToken"]) },
@@ -265,6 +268,37 @@ const MATRIX: Record<string, Probe[]> = {
   "routes/api.uncertainty-raster.ts": [
     { method: "GET", path: () => `/api/uncertainty/x/raster/p_high`, params: () => ({ id: String(uncertaintyRunId), name: "p_high" }), expect: projectPage([...MEMBERS, "viewerToken"]) },
     { method: "POST", path: () => `/api/uncertainty/x/raster/p_high`, params: () => ({ id: String(uncertaintyRunId), name: "p_high" }), options: { json: {} }, expect: projectPage([...MEMBERS, "viewerToken"]) },
+  ],
+  // Core-target lists (issue 11): every member reads published lists (viewers generalised); analysts
+  // and up make lists and record cores; leads and owners publish (project.edit). The probe list is
+  // published with one target, so a publish gets 409 and a list edit 409, past the gate.
+  "routes/project-targets.tsx": [
+    { method: "GET", path: (w) => `/projects/${w.projectId}/targets`, params: pid, expect: projectPage(MEMBERS) },
+    { method: "POST", path: (w) => `/projects/${w.projectId}/targets`, params: pid, options: { form: { intent: "create", body: "{}" } }, expect: projectPage(UPLOADERS) },
+  ],
+  "routes/project-target-list.tsx": [
+    { method: "GET", path: (w) => `/projects/${w.projectId}/targets/x`, params: (w) => ({ ...pid(w), listId: String(targetListId) }), expect: projectPage(MEMBERS) },
+    { method: "POST", path: (w) => `/projects/${w.projectId}/targets/x`, params: (w) => ({ ...pid(w), listId: String(targetListId) }), options: { form: { intent: "nothing" } }, expect: projectPage(MEMBERS) },
+  ],
+  "routes/api.project-target-lists.ts": [
+    { method: "GET", path: (w) => `/api/projects/${w.projectId}/target-lists`, params: pid, expect: projectPage([...MEMBERS, "viewerToken"]) },
+    { method: "POST", path: (w) => `/api/projects/${w.projectId}/target-lists`, params: pid, options: { json: {} }, expect: projectPage(UPLOADERS) },
+  ],
+  "routes/api.target-list.ts": [
+    { method: "GET", path: () => `/api/target-lists/x`, params: () => ({ id: String(targetListId) }), expect: projectPage([...MEMBERS, "viewerToken"]) },
+    { method: "PATCH", path: () => `/api/target-lists/x`, params: () => ({ id: String(targetListId) }), options: { json: {} }, expect: projectPage(UPLOADERS) },
+  ],
+  "routes/api.target-list-publish.ts": [
+    { method: "GET", path: () => `/api/target-lists/x/publish`, params: () => ({ id: String(targetListId) }), expect: projectPage([...MEMBERS, "viewerToken"]) },
+    { method: "POST", path: () => `/api/target-lists/x/publish`, params: () => ({ id: String(targetListId) }), options: { json: {} }, expect: projectPage(["owner", "lead"]) },
+  ],
+  "routes/api.target-list-export.ts": [
+    { method: "GET", path: () => `/api/target-lists/x/export?format=none`, params: () => ({ id: String(targetListId) }), expect: projectPage([...MEMBERS, "viewerToken"]) },
+    { method: "POST", path: () => `/api/target-lists/x/export`, params: () => ({ id: String(targetListId) }), options: { json: {} }, expect: projectPage([...MEMBERS, "viewerToken"]) },
+  ],
+  "routes/api.target.ts": [
+    { method: "GET", path: () => `/api/targets/x`, params: () => ({ id: String(targetId) }), expect: projectPage([...MEMBERS, "viewerToken"]) },
+    { method: "PATCH", path: () => `/api/targets/x`, params: () => ({ id: String(targetId) }), options: { json: {} }, expect: projectPage(UPLOADERS) },
   ],
   "routes/api.scoring.ts": [
     { method: "GET", path: () => `/api/scorings/x`, params: () => ({ id: String(scoringId) }), expect: projectPage([...MEMBERS, "viewerToken"]) },
@@ -372,6 +406,8 @@ let scoringId: number;
 let uncertaintyRunId = 0;
 let reviewId: number;
 let modelId: number;
+let targetListId: number;
+let targetId: number;
 let weightSetId: number;
 /** A dataset row to probe (its storage keys point nowhere; deleting it tolerates that). */
 async function makeDataset(w: World): Promise<number> {
@@ -435,6 +471,14 @@ beforeAll(async () => {
   // A model of it that never ran.
   const [md] = await db().insert(models).values({ projectId: world.projectId, reconstructionId, name: "Probe model", params: { ageKa: 12 }, inputsHash: "probe" }).returning({ id: models.id });
   modelId = md.id;
+  // A published core-target list of that scoring with one target (hand-made: the gates do not read its layers).
+  const [tl] = await db()
+    .insert(targetLists)
+    .values({ projectId: world.projectId, name: "Probe targets", source: { kind: "scoring", id: scoringId }, params: { crs: { epsg: 32733, label: "EPSG:32733" }, reconstruction: { id: reconstructionId }, source: { kind: "scoring", id: scoringId, label: "probe" } }, status: "published", publishedHash: "probe", publishedAt: new Date() })
+    .returning({ id: targetLists.id });
+  targetListId = tl.id;
+  const [tg] = await db().insert(targets).values({ listId: tl.id, rank: 1, waypoint: "CT01", x: 500_000, y: 5_000_000, lon: 15, lat: -45, detail: {} }).returning({ id: targets.id });
+  targetId = tg.id;
 });
 
 describe("the development outbox", () => {

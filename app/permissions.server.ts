@@ -28,6 +28,7 @@ const CAPABILITY_WORDS: Record<Capability, string> = {
   "weights.edit": "edit weight sets",
   "weights.adopt": "adopt a weight set for the project",
   "models.read": "see trained-model results",
+  "uncertainty.run": "run uncertainty analyses",
 };
 
 /**

@@ -35,7 +35,8 @@ export type Capability =
   | "reviews.sign"
   | "weights.edit"
   | "weights.adopt"
-  | "models.read";
+  | "models.read"
+  | "uncertainty.run";
 
 const GRANTS: Record<Capability, readonly Role[]> = {
   "project.read": ROLES,
@@ -55,6 +56,8 @@ const GRANTS: Record<Capability, readonly Role[]> = {
   "weights.adopt": ["owner", "lead"],
   /** trained-model rasters peak on exact site positions: never below analyst (design §9) */
   "models.read": ["owner", "lead", "analyst", "reviewer"],
+  /** a regulator tests how sure the potential is (issue 12): reviewers run uncertainty analyses too */
+  "uncertainty.run": ["owner", "lead", "analyst", "reviewer"],
 };
 
 export function can(role: Role | null | undefined, capability: Capability): boolean {

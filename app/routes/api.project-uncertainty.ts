@@ -15,7 +15,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 }
 
 export async function action({ request, params, context }: Route.ActionArgs) {
-  const { project, identity } = await requireProjectAccess(request, params.projectId, "runs.start");
+  const { project, identity } = await requireProjectAccess(request, params.projectId, "uncertainty.run");
   if (request.method !== "POST") return methodNotAllowed(["GET", "POST"]);
   return apiAction(async () => {
     const body = await readJson(request, uncertaintyRequest);

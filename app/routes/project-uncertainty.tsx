@@ -47,7 +47,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const runs = (await listUncertaintyRuns(project.id)).map(uncertaintyView);
   return {
     projectId: project.id,
-    mayStart: can(role, "runs.start"),
+    mayStart: can(role, "uncertainty.run"),
     reconstruction: rec ? { id: rec.id, name: rec.name, agesKa: [...(rec.manifest as unknown as Manifest).agesKa].sort((a, b) => b - a) } : null,
     seaLevel,
     versions: versions.map((v) => ({ id: v.id, label: `${v.setName} v${v.version}` })),
@@ -57,7 +57,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 }
 
 export async function action({ request, params, context }: Route.ActionArgs) {
-  const { project, identity } = await requireProjectAccess(request, params.projectId, "runs.start");
+  const { project, identity } = await requireProjectAccess(request, params.projectId, "uncertainty.run");
   const form = await request.formData();
   const n = (k: string) => (form.get(k) === null || form.get(k) === "" ? undefined : Number(form.get(k)));
   try {
