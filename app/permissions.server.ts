@@ -29,6 +29,7 @@ const CAPABILITY_WORDS: Record<Capability, string> = {
   "weights.adopt": "adopt a weight set for the project",
   "models.read": "see trained-model results",
   "uncertainty.run": "run uncertainty analyses",
+  "discussion.comment": "comment",
 };
 
 /**

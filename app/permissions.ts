@@ -36,7 +36,8 @@ export type Capability =
   | "weights.edit"
   | "weights.adopt"
   | "models.read"
-  | "uncertainty.run";
+  | "uncertainty.run"
+  | "discussion.comment";
 
 const GRANTS: Record<Capability, readonly Role[]> = {
   "project.read": ROLES,
@@ -58,6 +59,8 @@ const GRANTS: Record<Capability, readonly Role[]> = {
   "models.read": ["owner", "lead", "analyst", "reviewer"],
   /** a regulator tests how sure the potential is (issue 12): reviewers run uncertainty analyses too */
   "uncertainty.run": ["owner", "lead", "analyst", "reviewer"],
+  /** comment on reviews and in weighing sessions (reviewer, lead, analyst; viewers read) */
+  "discussion.comment": ["owner", "lead", "analyst", "reviewer"],
 };
 
 export function can(role: Role | null | undefined, capability: Capability): boolean {

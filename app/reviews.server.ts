@@ -149,7 +149,7 @@ export type DecisionRequest = z.infer<typeof decisionRequest>;
 
 /** Who may join a review's discussion: those who sign reviews and those who run the analyses (not viewers). */
 export function mayComment(role: Role | null | undefined): boolean {
-  return can(role, "reviews.sign") || can(role, "runs.start");
+  return can(role, "discussion.comment");
 }
 
 // ---------------------------------------------------------------------------------------------

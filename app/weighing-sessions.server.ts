@@ -35,7 +35,7 @@ export type SessionRow = typeof weighingSessions.$inferSelect;
 
 /** Who may comment: everyone who weighs (owner, lead, analyst) and reviewers (design §9: reviewers comment). Viewers watch. */
 export function mayComment(role: Role): boolean {
-  return can(role, "weights.edit") || can(role, "reviews.sign");
+  return can(role, "discussion.comment");
 }
 
 export interface SessionAccess {
