@@ -598,7 +598,36 @@ export function generalise(x: number, y: number, cellSizeM: number): [number, nu
 
 /** A stored target as the full record describeTargets made, with its status. */
 function coreTargetOf(r: TargetRow): ExportTarget {
-  return { ...(r.detail as unknown as CoreTarget), rank: r.rank, waypoint: r.waypoint, x: r.x, y: r.y, lon: r.lon, lat: r.lat, status: r.status };
+  const d = r.detail as unknown as Partial<CoreTarget>;
+  return {
+    mode: "best-first",
+    modeDetail: "",
+    cell: -1,
+    epsg: 0,
+    lonDdm: formatDdm(r.lon, "lon"),
+    latDdm: formatDdm(r.lat, "lat"),
+    waterDepthM: NaN,
+    horizonDepthM: null,
+    horizonTwtMs: null,
+    velocityMps: NaN,
+    coverTypeId: "",
+    plannedPenetrationM: NaN,
+    expectedPenetrationM: NaN,
+    nearestLine: null,
+    nearbyExclusions: [],
+    landAgesKa: [],
+    score: NaN,
+    occupation: null,
+    contributions: [],
+    ...d,
+    rank: r.rank,
+    waypoint: r.waypoint,
+    x: r.x,
+    y: r.y,
+    lon: r.lon,
+    lat: r.lat,
+    status: r.status,
+  };
 }
 
 /** The same target with its position snapped to the generalisation grid and the fields that would give it back removed. */
