@@ -3,7 +3,7 @@
 // learns nothing about whether the resource exists.
 import { eq } from "drizzle-orm";
 import { db } from "./db.server";
-import { datasets, jobRuns, models, reconstructions, reviews, scorings, uncertaintyRuns, weightSets } from "./db/schema";
+import { datasets, jobRuns, models, reconstructions, reviews, scorings, targetLists, targets, uncertaintyRuns, weightSets } from "./db/schema";
 import { requireProjectAccess } from "./permissions.server";
 import { requireIdentity } from "./auth.server";
 import { refusal } from "./security.server";
@@ -69,4 +69,24 @@ export async function requireReviewAccess(request: Request, idParam: string | un
 export async function requireUncertaintyAccess(request: Request, idParam: string | undefined, capability: Capability) {
   const access = await requireResourceAccess(request, idParam, NUMERIC, async (id) => (await db().select({ p: uncertaintyRuns.projectId }).from(uncertaintyRuns).where(eq(uncertaintyRuns.id, Number(id))))[0]?.p, capability, "no_such_uncertainty_run", "uncertainty run");
   return { ...access, uncertaintyRunId: Number(idParam) };
+}
+
+/** A core-target list (every member reads published lists; the module hides drafts from viewers). */
+export async function requireTargetListAccess(request: Request, idParam: string | undefined, capability: Capability) {
+  const access = await requireResourceAccess(request, idParam, NUMERIC, async (id) => (await db().select({ p: targetLists.projectId }).from(targetLists).where(eq(targetLists.id, Number(id))))[0]?.p, capability, "no_such_target_list", "target list");
+  return { ...access, listId: Number(idParam) };
+}
+
+/** One core target, through its list's project. */
+export async function requireTargetAccess(request: Request, idParam: string | undefined, capability: Capability) {
+  const access = await requireResourceAccess(
+    request,
+    idParam,
+    NUMERIC,
+    async (id) => (await db().select({ p: targetLists.projectId }).from(targets).innerJoin(targetLists, eq(targetLists.id, targets.listId)).where(eq(targets.id, Number(id))))[0]?.p,
+    capability,
+    "no_such_target",
+    "core target",
+  );
+  return { ...access, targetId: Number(idParam) };
 }

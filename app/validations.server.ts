@@ -14,6 +14,7 @@
 import { createHash } from "node:crypto";
 import { and, asc, eq, inArray } from "drizzle-orm";
 import { z } from "zod";
+import { targetResultEvidence } from "./target-results.server";
 import { db } from "./db.server";
 import { datasets, projects, reconstructions, siteRecords, validations } from "./db/schema";
 import { UserError } from "./errors";
@@ -405,6 +406,7 @@ async function projectEvidence(projectId: number) {
       });
     }
   }
+  items.push(...(await targetResultEvidence(projectId))); // cores recorded on published target lists
   const surveySets = await db()
     .select({ id: datasets.id, key: datasets.derivedKey, sha256: datasets.sha256, name: datasets.name })
     .from(datasets)

@@ -22,6 +22,7 @@ export default function ProjectLayout({ loaderData }: Route.ComponentProps) {
     { to: `/projects/${project.id}/uncertainty`, label: "Uncertainty", end: false, show: true },
     { to: `/projects/${project.id}/validation`, label: "Validation", end: false, show: true },
     { to: `/projects/${project.id}/models`, label: "Models", end: false, show: can(role, "models.read") },
+    { to: `/projects/${project.id}/targets`, label: "Core targets", end: false, show: true },
     { to: `/projects/${project.id}`, label: "Overview", end: true, show: true },
     { to: `/projects/${project.id}/data`, label: "Data", end: false, show: true },
     { to: `/projects/${project.id}/sites`, label: "Known sites", end: false, show: true },
