@@ -188,6 +188,29 @@ describe("known sites stay confidential", () => {
     for (const c of coords) expect(pageText).not.toContain(c);
   });
 
+  it("tells only owners and leads which sites are held out of validation, on the sites page and the API", async () => {
+    const [vm1] = await db().select({ id: siteRecords.id }).from(siteRecords).where(and(eq(siteRecords.projectId, world.projectId), eq(siteRecords.label, "VM-1")));
+    await db().update(siteRecords).set({ heldOut: true }).where(eq(siteRecords.id, vm1.id));
+    try {
+      const pageRows = async (who: "owner" | "lead" | "analyst" | "reviewer") =>
+        (await (await callWith(sitesPage.loader, new Request(new URL(`/projects/${pid()}/sites`, ORIGIN), { headers: { Cookie: world.cookies[who] } }), { projectId: pid() })).json()).exact as Array<Record<string, unknown>>;
+      for (const who of ["owner", "lead"] as const) {
+        const rows = await pageRows(who);
+        expect(rows.find((r) => r.label === "VM-1")?.heldOut, who).toBe(true);
+        expect(rows.find((r) => r.label === "VM-2")?.heldOut, who).toBe(false);
+      }
+      for (const who of ["analyst", "reviewer"] as const) {
+        const rows = await pageRows(who);
+        expect(rows.map((r) => r.label), who).toContain("VM-1"); // they see the exact row, only not that it is held out
+        for (const r of rows) expect(Object.keys(r), `${who} ${String(r.label)}`).not.toContain("heldOut");
+        const api = await (await callWith(apiSites.loader, new Request(new URL(`/api/projects/${pid()}/sites`, ORIGIN), { headers: { Cookie: world.cookies[who] } }), { projectId: pid() })).text();
+        expect(api, who).not.toMatch(/held_?out/i);
+      }
+    } finally {
+      await db().update(siteRecords).set({ heldOut: false }).where(eq(siteRecords.id, vm1.id));
+    }
+  });
+
   it("generalises for viewers by the project's own settings, which owners and leads change", async () => {
     const post = (cookie: string, body: string) =>
       callWith(settingsPage.action, new Request(new URL(`/projects/${pid()}/settings`, ORIGIN), { method: "POST", headers: { Cookie: cookie, Origin: ORIGIN, "Content-Type": "application/x-www-form-urlencoded" }, body }), { projectId: pid() });

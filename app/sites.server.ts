@@ -4,7 +4,9 @@
 //   - everyone else: positions generalised to the project's cell size, small counts suppressed;
 //   - a record marked "restricted" by its community's custodian is exact only for that custodian
 //     and the project's owners and leads, generalised for everyone else;
-//   - a record "withheld" by its community's custodian is shown only to that custodian.
+//   - a record "withheld" by its community's custodian is shown only to that custodian;
+//   - whether a record is in the validation hold-out is told to owners and leads only (project.edit),
+//     who keep it: the team tuning weights must not know which sites are held out (design §5).
 import { and, asc, eq } from "drizzle-orm";
 import { db } from "./db.server";
 import { memberships, siteRecords } from "./db/schema";
@@ -37,7 +39,8 @@ export function sees(row: Pick<SiteRow, "visibility" | "community">, viewer: Vie
 }
 
 export interface SiteView {
-  exact: Array<Omit<SiteRow, "projectId" | "attributes"> & { attributes: Record<string, unknown> }>;
+  /** `heldOut` only for owners and leads (project.edit); absent for everyone else */
+  exact: Array<Omit<SiteRow, "projectId" | "attributes" | "heldOut"> & { attributes: Record<string, unknown>; heldOut?: boolean }>;
   generalised: Generalised;
   custodianFor: string | null;
 }
@@ -46,13 +49,14 @@ export interface SiteView {
 export async function sitesFor(project: { id: number; siteGeneralisationM: number; siteMinCount: number }, viewer: Viewer): Promise<SiteView> {
   const community = await custodianFor(project.id, viewer.userId);
   const rows = await db().select().from(siteRecords).where(eq(siteRecords.projectId, project.id)).orderBy(asc(siteRecords.id));
+  const knowsHoldout = can(viewer.role, "project.edit");
   const exact: SiteView["exact"] = [];
   const rest: { x: number; y: number }[] = [];
   for (const r of rows) {
     const s = sees(r, viewer, community);
     if (s === "exact") {
-      const { projectId: _p, ...rest2 } = r;
-      exact.push(rest2);
+      const { projectId: _p, heldOut, ...rest2 } = r;
+      exact.push(knowsHoldout ? { ...rest2, heldOut } : rest2);
     } else if (s === "generalised") rest.push({ x: r.x, y: r.y });
   }
   return { exact, generalised: generaliseSites(rest, project.siteGeneralisationM, project.siteMinCount), custodianFor: community };
