@@ -6,19 +6,57 @@ import os from "node:os";
 import path from "node:path";
 import { and, eq, sql } from "drizzle-orm";
 import { db, pool } from "../app/db.server";
-import { memberships, projects, siteRecords, users } from "../app/db/schema";
+import { auditLog, memberships, projects, siteRecords, users } from "../app/db/schema";
 import { hashPassword } from "../app/auth.server";
 import { recordAudit } from "../app/audit.server";
 import { ingestUpload } from "../app/datasets.server";
 import { startReconstruction } from "../app/reconstructions.server";
 import { stopBoss } from "../jobs/boss.server";
 import { demoProject, demoUsers } from "./demo/demo-data";
-import { demoFiles } from "./demo/demo-files";
+import { demoFiles, type DemoFile } from "./demo/demo-files";
 import { seedDemoWeightSets } from "./demo/demo-weight-sets";
 
 if (!process.env.DATABASE_URL) {
   console.error("seed: DATABASE_URL is not set");
   process.exit(2);
+}
+
+/** Ingests one demo file through the same reader and storage as any upload. */
+async function ingestDemoFile(project: typeof projects.$inferSelect, userId: number, f: DemoFile) {
+  const tmp = await fs.mkdtemp(path.join(os.tmpdir(), "lowstand-demo-"));
+  try {
+    const filePath = path.join(tmp, f.fileName);
+    await fs.writeFile(filePath, f.bytes);
+    return await ingestUpload(project, userId, {
+      fields: { kind: f.kind, name: f.name, ...f.fields },
+      file: { path: filePath, size: f.bytes.byteLength, originalName: f.fileName, mimeType: "application/octet-stream" },
+      discard: () => fs.rm(filePath, { force: true }),
+    });
+  } finally {
+    await fs.rm(tmp, { recursive: true, force: true });
+  }
+}
+
+/**
+ * Demo files added after an installation was seeded (the 2026 sites): uploaded as the demo analyst
+ * into a demo project that has never had a dataset of that name (none now, none in its audit log),
+ * so a team that deleted one does not get it back. Returns what it did, in words for the log.
+ */
+async function seedLaterDemoFiles(projectId: number): Promise<string> {
+  const [project] = await db().select().from(projects).where(eq(projects.id, projectId));
+  const [analyst] = await db().select({ id: users.id }).from(users).where(eq(users.email, demoUsers.find((u) => u.role === "analyst")!.email));
+  const added: string[] = [];
+  for (const f of demoFiles().filter((d) => d.addedLater)) {
+    const [trace] = await db()
+      .select({ id: auditLog.id })
+      .from(auditLog)
+      .where(and(eq(auditLog.projectId, projectId), eq(auditLog.action, "dataset.uploaded"), sql`${auditLog.detail}->>'name' = ${f.name}`))
+      .limit(1);
+    if (trace || !analyst) continue;
+    await ingestDemoFile(project, analyst.id, f);
+    added.push(`"${f.name}"`);
+  }
+  return added.length ? `added ${added.join(", ")}` : "no demo files to add";
 }
 
 try {
@@ -27,7 +65,7 @@ try {
     console.log("[seed] the database already holds projects or users: nothing seeded");
     // Parts of the demo added since an installation was seeded (each checks for itself).
     const [demo] = await db().select({ id: projects.id }).from(projects).where(and(eq(projects.slug, demoProject.slug), eq(projects.isDemo, true)));
-    if (demo) console.log(`[seed] demo project: ${await seedDemoWeightSets(demo.id)}`);
+    if (demo) console.log(`[seed] demo project: ${await seedDemoWeightSets(demo.id)}; ${await seedLaterDemoFiles(demo.id)}`);
   } else {
     const t0 = Date.now();
     const hashes = await Promise.all(demoUsers.map((u) => hashPassword(u.password)));
@@ -44,21 +82,11 @@ try {
     });
 
     // The demo evidence goes through the same readers and storage as any upload.
-    const tmp = await fs.mkdtemp(path.join(os.tmpdir(), "lowstand-demo-"));
     const ids: Record<string, number> = {};
-    try {
-      for (const f of demoFiles()) {
-        const filePath = path.join(tmp, f.fileName);
-        await fs.writeFile(filePath, f.bytes);
-        const d = await ingestUpload(project, analystId, {
-          fields: { kind: f.kind, name: f.name, ...f.fields },
-          file: { path: filePath, size: f.bytes.byteLength, originalName: f.fileName, mimeType: "application/octet-stream" },
-          discard: () => fs.rm(filePath, { force: true }),
-        });
-        ids[f.kind] = d.id;
-      }
-    } finally {
-      await fs.rm(tmp, { recursive: true, force: true });
+    const files = demoFiles();
+    for (const f of files) {
+      const d = await ingestDemoFile(project, analystId, f);
+      ids[f.kind] ??= d.id;
     }
 
     // The lead keeps one in-situ site back as the hold-out, hidden from the team's validation
@@ -79,7 +107,7 @@ try {
       verticalResolutionM: 0.3,
     });
     const weights = await seedDemoWeightSets(project.id);
-    console.log(`[seed] seeded the demo project "${demoProject.name}", ${demoUsers.length} demo users and ${Object.keys(ids).length} datasets; reconstruction ${reconstruction.id} queued; ${weights} (${Date.now() - t0} ms)`);
+    console.log(`[seed] seeded the demo project "${demoProject.name}", ${demoUsers.length} demo users and ${files.length} datasets; reconstruction ${reconstruction.id} queued; ${weights} (${Date.now() - t0} ms)`);
   }
 } finally {
   await stopBoss();

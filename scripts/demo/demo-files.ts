@@ -1,12 +1,16 @@
 // The invented demonstration evidence (design §11): a procedurally generated shelf, sub-bottom
-// picks along invented survey lines, a few invented sites and cores, two lease blocks, a
-// development footprint, an exclusion, the survey area and sea-level index points. Everything is
-// made up and placed in WGS 84 / UTM zone 33S over open Southern Ocean, far from any real coast.
-// Each file goes through the same readers as a user's upload.
+// picks along invented survey lines, invented known sites (a first few and a 2026 campaign,
+// demo-sites.ts) and cores, two lease blocks, a development footprint, an exclusion, the survey
+// area and sea-level index points. Everything is made up and placed in WGS 84 / UTM zone 33S over
+// open Southern Ocean, far from any real coast. Each file goes through the same readers as a
+// user's upload.
 import proj4 from "proj4";
 import { writeGeoTiff } from "../../app/terrain/geotiff-write";
 import { resolveCrs } from "../../app/terrain/crs";
 import { syntheticGrid } from "../bench/synthetic-shelf";
+import { DEMO_SITES, DEMO_SITES_2026_NAME, type DemoSite } from "./demo-sites";
+
+export { DEMO_SITES, type DemoSite };
 
 export const DEMO_EPSG = 32733;
 export const DEMO_ORIGIN: [number, number] = [480_000, 5_030_000];
@@ -19,6 +23,16 @@ export interface DemoFile {
   fileName: string;
   fields?: Record<string, string>;
   bytes: Uint8Array;
+  /** added to the demo after its first release: the seed also adds it to a demo seeded before (scripts/seed.ts) */
+  addedLater?: boolean;
+}
+
+function sitesCsv(rows: DemoSite[]): string {
+  const n = (v: number | null) => (v === null ? "" : String(v));
+  return [
+    "site_id,x,y,precision_m,kind,context,discovery_method,cal_bp_from,cal_bp_to,confidence,sensitivity,community",
+    ...rows.map((d) => [d.id, d.x, d.y, d.precisionM, d.kind, d.context, d.method, n(d.calFrom), n(d.calTo), d.confidence, d.sensitivity, d.community].join(",")),
+  ].join("\n");
 }
 
 const text = (s: string) => new TextEncoder().encode(s);
@@ -49,32 +63,26 @@ export function demoFiles(): DemoFile[] {
     }
   });
 
-  const sites = [
-    "site_id,x,y,precision_m,kind,context,discovery_method,cal_bp_from,cal_bp_to,confidence,sensitivity,community",
-    "VEL-001,483410,5026150,5,shell midden,in_situ,vibrocore,10900,10400,high,normal,",
-    "VEL-002,485020,5022880,10,lithic scatter,in_situ,grab sample,11800,11200,medium,normal,",
-    "VEL-003,486760,5020330,5,wooden stake weir,in_situ,diver survey,9600,9300,high,restricted,Velmar shore families",
-    "VEL-004,482150,5019420,25,hearth,in_situ,vibrocore,12400,11900,medium,normal,",
-    "VEL-005,488300,5025600,250,worked flint,trawled,fishing catch,,,low,normal,",
-    "VEL-006,484900,5027900,100,antler tool,derived,beach find,,,low,normal,",
-  ].join("\n");
+  const sites = sitesCsv(DEMO_SITES.filter((d) => d.set === "2025"));
+  const sites2026 = sitesCsv(DEMO_SITES.filter((d) => d.set === "2026"));
 
   const cores = [
-    "core_id,x,y,water_depth_m,penetration_m,recovery_m,horizon_reached,preserved_land_surface,archaeological_indicators,unit_top_m,unit_base_m,unit_description,lab_code,c14_age,c14_sigma,material,sample_depth_m",
-    "VC25-07,483380,5026120,38.5,4.2,3.6,yes,yes,charcoal; burnt flint,0,1.9,shelly sand,,,,,",
-    "VC25-07,,,,,,,,,1.9,2.6,peat,VLM-2281,9420,45,peat,2.2",
-    "VC25-07,,,,,,,,,2.6,4.2,grey clay with roots,,,,,",
-    "VC25-11,487900,5023300,52.0,3.0,2.4,yes,yes,none,0,2.1,medium sand,,,,,",
-    "VC25-11,,,,,,,,,2.1,3.0,palaeosol,VLM-2290,10150,50,organic silt,2.3",
-    "VC25-14,490600,5019800,71.3,1.4,1.1,refused,unknown,none,0,1.4,gravel lag,,,,,",
-    "VC25-16,481900,5021700,31.2,5.1,4.4,yes,no,none,0,4.1,stratified sand,,,,,",
-    "VC25-16,,,,,,,,,4.1,5.1,truncated till surface,,,,,",
+    "core_id,x,y,water_depth_m,penetration_m,recovery_m,horizon_reached,preserved_land_surface,archaeological_indicators,unit_top_m,unit_base_m,unit_description,lab_code,c14_age,c14_sigma,cal_from,cal_to,material,sample_depth_m",
+    // the dates' calibrated ranges (cal BP, 95 %) are invented, as everything here
+    "VC25-07,483380,5026120,38.5,4.2,3.6,yes,yes,charcoal; burnt flint,0,1.9,shelly sand,,,,,,,",
+    "VC25-07,,,,,,,,,1.9,2.6,peat,VLM-2281,9420,45,10740,10560,peat,2.2",
+    "VC25-07,,,,,,,,,2.6,4.2,grey clay with roots,,,,,,,",
+    "VC25-11,487900,5023300,52.0,3.0,2.4,yes,yes,none,0,2.1,medium sand,,,,,,,",
+    "VC25-11,,,,,,,,,2.1,3.0,palaeosol,VLM-2290,10150,50,11980,11630,organic silt,2.3",
+    "VC25-14,490600,5019800,71.3,1.4,1.1,refused,unknown,none,0,1.4,gravel lag,,,,,,,",
+    "VC25-16,481900,5021700,31.2,5.1,4.4,yes,no,none,0,4.1,stratified sand,,,,,,,",
+    "VC25-16,,,,,,,,,4.1,5.1,truncated till surface,,,,,,,",
   ].join("\n");
 
   const indexPoints = [
     "id,age_ka,age_sigma_ka,height_m,height_sigma_m,kind,lab_code,indicator",
-    "VIP-1,9.42,0.08,-41.8,1.5,index_point,VLM-2281,basal peat",
-    "VIP-2,10.15,0.10,-49.6,2.0,terrestrial_limiting,VLM-2290,palaeosol",
+    "VIP-1,10.65,0.09,-41.8,1.5,index_point,VLM-2281,basal peat",
+    "VIP-2,11.80,0.18,-49.6,2.0,terrestrial_limiting,VLM-2290,palaeosol",
     "VIP-3,8.20,0.12,-18.9,1.2,index_point,VLM-2302,salt-marsh peat",
     "VIP-4,11.60,0.15,-58.0,3.0,marine_limiting,VLM-2311,shell hash",
   ].join("\n");
@@ -84,6 +92,7 @@ export function demoFiles(): DemoFile[] {
     { kind: "survey_lines", name: "Velmar chirp lines 2025", fileName: "velmar-chirp-lines.csv", bytes: text(lines.join("\n")) },
     { kind: "horizon_picks", name: "Transgressive surface picks", fileName: "velmar-ts-picks.csv", bytes: text(picks.join("\n")) },
     { kind: "known_sites", name: "Velmar known sites", fileName: "velmar-sites.csv", bytes: text(sites) },
+    { kind: "known_sites", name: DEMO_SITES_2026_NAME, fileName: "velmar-sites-2026.csv", bytes: text(sites2026), addedLater: true },
     { kind: "cores", name: "Velmar vibrocores 2025", fileName: "velmar-cores.csv", bytes: text(cores) },
     { kind: "sea_level_index_points", name: "Velmar index points", fileName: "velmar-index-points.csv", bytes: text(indexPoints) },
     {
