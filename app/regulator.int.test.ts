@@ -26,6 +26,10 @@ import * as apiConflicts from "~/routes/api.project-conflicts";
 import * as apiBlocks from "~/routes/api.project-block-figures";
 import * as apiZones from "~/routes/api.project-zones";
 import * as apiSettings from "~/routes/api.project-exclusion-settings";
+import * as apiDeskMap from "~/routes/api.project-desk-map";
+import { inflateSync } from "node:zlib";
+import { deskMapLegend } from "~/regulator.server";
+import { classOf, fixedClassification } from "~/scoring/classification";
 import { stopBoss } from "../jobs/boss.server";
 import { buildWorld, callWith, ORIGIN, type World } from "../tests/support/world";
 import { FAST_JOB_SETTINGS, startWorker, stopWorkers, waitFor } from "../tests/support/workers";
@@ -299,6 +303,38 @@ describe("the review desk", () => {
     let scored = 0;
     for (let i = 0; i < potential.length; i++) if (!Number.isNaN(potential[i]) || unassessed[i] === 1) scored++;
     expect(body.features.reduce((s: number, f: { properties: { cells: number } }) => s + f.properties.cells, 0)).toBe(scored);
+  });
+
+  it("draws the desk map: classes in the legend's colours, asset footprints, block outlines", async () => {
+    const res = await get(apiDeskMap.loader, `/api/projects/${world.projectId}/regulator/map.png`, "viewer");
+    expect(res.status).toBe(200);
+    expect(res.headers.get("content-type")).toBe("image/png");
+    const png = Buffer.from(await res.arrayBuffer());
+    expect(png.subarray(1, 4).toString("latin1")).toBe("PNG");
+    const w = png.readUInt32BE(16), h = png.readUInt32BE(20);
+    expect([w, h]).toEqual([SIZE, SIZE]); // one pixel per cell below 640 cells
+    // our encoder (app/png.server.ts): one IDAT, filter 0 on every row
+    const idat = png.subarray(png.indexOf("IDAT") + 4, png.indexOf("IEND") - 8);
+    const raw = inflateSync(idat);
+    const px = (c: number, r: number) => [...raw.subarray(r * (w * 4 + 1) + 1 + c * 4, r * (w * 4 + 1) + 1 + c * 4 + 3)];
+    const legend = deskMapLegend(fixedClassification([0.75, 0.5, 0.25], ["very high", "high", "medium", "low"]));
+    const cellOf = (x: number, y: number) => [Math.floor((x - ORIGIN_X) / CELL), Math.floor((ORIGIN_Y - y) / CELL)];
+    expect(px(...(cellOf(ASSETS[0].x, ASSETS[0].y) as [number, number]))).toEqual(legend.assets.rgb);
+    expect(px(...(cellOf(BLOCK_EAST[2] + 1, 5_028_900) as [number, number]))).toEqual(legend.blocks.rgb); // East's eastern edge (x = 482 300 m, the left side of its pixel)
+    const potential = await scoringRaster("potential");
+    const unassessed = await scoringRaster("unassessed");
+    const cls = fixedClassification([0.75, 0.5, 0.25]);
+    // every scored cell shows its class's colour unless an overlay is drawn over it
+    const overlays = [legend.assets.rgb, legend.blocks.rgb, legend.exclusions.rgb].map(String);
+    let checked = 0;
+    for (let i = 0; i < SIZE * SIZE; i++) {
+      if (unassessed[i] === 1 || Number.isNaN(potential[i])) continue;
+      const got = px(i % SIZE, Math.floor(i / SIZE));
+      if (overlays.includes(String(got))) continue;
+      expect(got, `cell ${i}`).toEqual(legend.classes[classOf(cls, potential[i])].rgb);
+      checked++;
+    }
+    expect(checked).toBeGreaterThan(0);
   });
 
   it("lets a reviewer set buffers (0–5000 m), audit-logged; refuses bad values and other roles", async () => {

@@ -707,3 +707,91 @@ export const ZONE_PROPERTIES_DOC = {
     areaKm2: "area of the zone (km²)",
   },
 } as const;
+
+// ---------------------------------------------------------------------------------------------
+// A small map for the desk (and the report): potential classes, blocks, asset footprints, exclusion zones
+
+/** viridis at 9 stops (van der Walt & Smith, matplotlib 2015; CC0), as app/raster-display.ts draws potential. */
+const VIRIDIS_STOPS = [[68, 1, 84], [71, 44, 122], [59, 81, 139], [44, 113, 142], [33, 144, 141], [39, 173, 129], [92, 200, 99], [170, 220, 50], [253, 231, 37]];
+function viridisAt(t: number): [number, number, number] {
+  const x = Math.min(1, Math.max(0, t)) * (VIRIDIS_STOPS.length - 1);
+  const i = Math.min(VIRIDIS_STOPS.length - 2, Math.floor(x));
+  const f = x - i;
+  const a = VIRIDIS_STOPS[i], b = VIRIDIS_STOPS[i + 1];
+  return [0, 1, 2].map((k) => Math.round(a[k] + (b[k] - a[k]) * f)) as [number, number, number];
+}
+
+/** The colours of the desk map's legend: each class (highest first), unassessed, not scored, and the overlays. */
+export function deskMapLegend(classification: ProjectClassification) {
+  const k = classification.labels.length;
+  return {
+    classes: classification.labels.map((label, c) => ({ label, rgb: viridisAt(k > 1 ? 1 - c / (k - 1) : 1) })),
+    unassessed: { label: "unassessed (hatched grey)", rgb: [150, 150, 150] as [number, number, number] },
+    notScored: { label: "not scored at this age (sea or lake)", rgb: [38, 52, 68] as [number, number, number] },
+    blocks: { label: "lease block (white outline)", rgb: [255, 255, 255] as [number, number, number] },
+    assets: { label: "development asset and its buffer (orange)", rgb: [236, 120, 36] as [number, number, number] },
+    exclusions: { label: "exclusion zone (red outline)", rgb: [214, 40, 30] as [number, number, number] },
+  };
+}
+
+/**
+ * The desk's map as a PNG (at most 640 px on its longer side): the scoring's classes in viridis
+ * (highest brightest), unassessed cells hatched grey, unscored cells dark; lease blocks outlined in
+ * white, asset footprints filled orange, exclusion zones outlined red (find spots as the viewer may
+ * see them). The same colours as {@link deskMapLegend}; meaning never rests on colour alone (the
+ * tables beside it carry every figure).
+ */
+export async function deskMapPng(projectId: number, opts: DeskOptions = {}) {
+  const { encodePng } = await import("./png.server");
+  const project = await projectRow(projectId);
+  const classification = classificationOf(project.classification);
+  const inp = await inputsFor(projectId, opts.scoringId);
+  const legend = deskMapLegend(classification);
+  const g = inp.grid;
+  const step = Math.max(1, Math.ceil(Math.max(g.width, g.height) / 640));
+  const W = Math.ceil(g.width / step);
+  const H = Math.ceil(g.height / step);
+  const rgba = new Uint8Array(W * H * 4);
+  const classes = classifyRaster(classification, inp.potential);
+  const put = (px: number, py: number, rgb: readonly number[]) => {
+    if (px < 0 || py < 0 || px >= W || py >= H) return;
+    const o = (py * W + px) * 4;
+    rgba[o] = rgb[0];
+    rgba[o + 1] = rgb[1];
+    rgba[o + 2] = rgb[2];
+    rgba[o + 3] = 255;
+  };
+  for (let py = 0; py < H; py++)
+    for (let px = 0; px < W; px++) {
+      const i = Math.min(g.height - 1, py * step) * g.width + Math.min(g.width - 1, px * step);
+      if (inp.unassessedScore && inp.unassessedScore[i] === 1) put(px, py, (px + py) % 4 < 2 ? legend.unassessed.rgb : [110, 110, 110]);
+      else if (classes[i] !== 255) put(px, py, legend.classes[classes[i]].rgb);
+      else put(px, py, legend.notScored.rgb);
+    }
+  // overlays in pixel coordinates
+  const toPx = (p: Position): [number, number] => [(p[0] - g.originX) / g.cellSizeX / step, (g.originY - p[1]) / g.cellSizeY / step];
+  const line = (a: Position, b: Position, rgb: readonly number[]) => {
+    const [x0, y0] = toPx(a);
+    const [x1, y1] = toPx(b);
+    const n = Math.min(20_000, Math.ceil(Math.hypot(x1 - x0, y1 - y0) * 2) + 1);
+    for (let j = 0; j <= n; j++) put(Math.floor(x0 + ((x1 - x0) * j) / n), Math.floor(y0 + ((y1 - y0) * j) / n), rgb);
+  };
+  const outline = (geom: AreaOut | AreaGeometry, rgb: readonly number[]) => {
+    const polys = geom.type === "Polygon" ? [geom.coordinates] : geom.coordinates;
+    for (const rings of polys) for (const ring of rings) for (let k = 0; k + 1 < ring.length; k++) line(ring[k] as Position, ring[k + 1] as Position, rgb);
+  };
+  for (const { feature } of await featuresOf(projectId, ["development_footprint"])) {
+    try {
+      const mask = footprintMask(feature.geometry!, Math.max(0, numberOr(feature.properties.bufferM, 0)), g);
+      for (let i = 0; i < mask.length; i++) if (mask[i]) put(Math.floor((i % g.width) / step), Math.floor(Math.floor(i / g.width) / step), legend.assets.rgb);
+    } catch (e) {
+      if (!(e instanceof ScoringInputError)) throw e;
+    }
+  }
+  for (const { feature } of await featuresOf(projectId, ["lease_blocks"])) {
+    const t = feature.geometry!.type;
+    if (t === "Polygon" || t === "MultiPolygon") outline(feature.geometry as AreaGeometry, legend.blocks.rgb);
+  }
+  for (const z of (await exclusionZones(projectId, { viewer: opts.viewer })).features) outline(z.geometry, legend.exclusions.rgb);
+  return { png: encodePng(W, H, rgba), width: W, height: H, scoringId: inp.scoring.id, legend };
+}

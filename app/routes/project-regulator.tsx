@@ -8,7 +8,9 @@ import { requireProjectAccess } from "~/permissions.server";
 import { can } from "~/permissions";
 import {
   blockFigures,
+  classificationOf,
   conflictTable,
+  deskMapLegend,
   exclusionBuffersSchema,
   exclusionZones,
   getExclusionSettings,
@@ -62,6 +64,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     settings,
     published,
     desk,
+    legend: desk ? deskMapLegend(classificationOf(project.classification)) : null,
     missing,
     exclusions: {
       notes: exclusions.notes,
@@ -179,7 +182,7 @@ function ConflictTable({ rows, labels }: { rows: ConflictRow[]; labels: string[]
 }
 
 export default function ProjectRegulator({ loaderData }: Route.ComponentProps) {
-  const { projectId, desk, missing, settings, published, mayEditBuffers, mayRunScorings, exclusions } = loaderData;
+  const { projectId, desk, legend, missing, settings, published, mayEditBuffers, mayRunScorings, exclusions } = loaderData;
   const result = useActionData<typeof action>();
   const busy = useNavigation().state === "submitting";
   const [params] = useSearchParams();
@@ -230,6 +233,28 @@ export default function ProjectRegulator({ loaderData }: Route.ComponentProps) {
           <p className="mt-1 text-sm">{missing}</p>
           {mayRunScorings ? <p className="mt-2 text-sm"><Link className="underline" to={`/projects/${projectId}/weights`}>Go to the weight sets</Link> to score the adopted version at full resolution.</p> : <p className="mt-2 text-sm text-sediment-600">An analyst, lead or owner of the project can start it.</p>}
         </section>
+      ) : null}
+
+      {desk && legend ? (
+        <figure className="flex flex-wrap items-start gap-6" data-testid="desk-map">
+          <img
+            src={`/api/projects/${projectId}/regulator/map.png${scoringQ ? `?${scoringQ.slice(1)}` : ""}`}
+            alt="Map of the potential classes with the lease blocks, the development assets and the exclusion zones; every figure is in the tables below."
+            className="max-h-96 border border-sand-300"
+          />
+          <figcaption className="max-w-sm space-y-1 text-sm">
+            <p className="font-medium">Potential classes of scoring {desk.conflicts.scoring.id} ({desk.conflicts.scoring.targetLabel}), with the review's features</p>
+            <ul className="space-y-0.5">
+              {[...legend.classes, legend.unassessed, legend.notScored, legend.blocks, legend.assets, legend.exclusions].map((e) => (
+                <li key={e.label} className="flex items-center gap-2">
+                  <span aria-hidden className="inline-block h-3 w-5 border border-sand-400" style={{ background: `rgb(${e.rgb.join(",")})` }} />
+                  {e.label}
+                </li>
+              ))}
+            </ul>
+            <p className="text-xs text-sediment-600">Open the <Link className="underline" to={`/projects/${projectId}/map`}>map workspace</Link> to pan, zoom and step through the ages.</p>
+          </figcaption>
+        </figure>
       ) : null}
 
       {desk ? (

@@ -44,6 +44,13 @@ test.describe("the review desk as a reviewer", () => {
     await expect(page.getByRole("heading", { name: "Review desk", level: 1 })).toBeVisible();
     await expect(page.getByTestId("desk-scoring")).toContainText(/Scoring \d+/);
 
+    // the small map, drawn on the server
+    const img = page.getByTestId("desk-map").locator("img");
+    const mapRes = await page.request.get((await img.getAttribute("src"))!);
+    expect(mapRes.status(), await mapRes.text().catch(() => "")).toBe(200);
+    expect(mapRes.headers()["content-type"]).toBe("image/png");
+    await expect.poll(() => img.evaluate((el) => (el as HTMLImageElement).complete && (el as HTMLImageElement).naturalWidth), { timeout: 30_000 }).toBe(512);
+
     // the conflict table: the five turbines and the export cable, each with a reach and a mitigation
     const conflicts = page.getByTestId("conflict-table");
     await expect(conflicts.locator("tbody tr")).toHaveCount(6);
