@@ -98,4 +98,5 @@ export default [
   route("api/projects/:projectId/blocks/figures", "routes/api.project-block-figures.ts"),
   route("api/projects/:projectId/zones", "routes/api.project-zones.ts"),
   route("api/projects/:projectId/exclusion-settings", "routes/api.project-exclusion-settings.ts"),
+  route("api/projects/:projectId/regulator/map.png", "routes/api.project-desk-map.ts"),
 ] satisfies RouteConfig;
