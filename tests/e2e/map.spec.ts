@@ -1,11 +1,15 @@
 import type { Locator, Page } from "@playwright/test";
 import { test, expect, stateFor } from "./fixtures";
+import { DEMO_SITES } from "../../scripts/demo/demo-sites";
 
-// The demo's known sites (scripts/demo/demo-files.ts): exact positions a viewer must never receive.
-const SITES: Array<[number, number]> = [[483410, 5026150], [485020, 5022880], [486760, 5020330], [482150, 5019420], [488300, 5025600], [484900, 5027900]];
+// The demo's known sites (scripts/demo/demo-sites.ts): exact positions a viewer must never receive.
+const SITES: Array<[number, number]> = DEMO_SITES.map((s) => [s.x, s.y]);
 // Numbers that occur nowhere else in the demo (survey lines and grids fall on round hundreds, so
 // 488300 alone, say, is also a survey fix): none may appear at all.
-const SITE_ONLY_NUMBERS = ["483410", "5026150", "485020", "5022880", "486760", "5020330", "482150", "5019420"];
+const SITE_ONLY_NUMBERS = DEMO_SITES.flatMap((s) => [s.x, s.y]).filter((v) => v % 100 !== 0).map(String);
+/** Sites an analyst sees exactly: all but those their community restricted (VEL-003, for its custodians, owners and leads). */
+const ANALYST_SITES: Array<[number, number]> = DEMO_SITES.filter((s) => s.sensitivity !== "restricted").map((s) => [s.x, s.y]);
+const RESTRICTED: Array<[number, number]> = DEMO_SITES.filter((s) => s.sensitivity === "restricted").map((s) => [s.x, s.y]);
 /** A site's x followed closely by its y: [x, y], "x":x,"y":y, "x … m y … m". */
 const pairPattern = ([x, y]: [number, number]) => new RegExp(`${x}(\\.0+)?\\D{1,16}${y}(?!\\d)`);
 
@@ -48,8 +52,10 @@ test.describe("the map workspace for an analyst", () => {
     const analystView = await (await page.request.get(page.url().replace(/\/projects\/(\d+)\/map.*$/, "/api/projects/$1/map"))).text();
     expect(analystView).toContain("483410");
     // (VEL-003 is restricted to its community's custodians, owners and leads.)
-    for (const site of SITES.filter(([x]) => x !== 486760)) expect(analystView).toMatch(pairPattern(site));
-    expect(analystView).not.toMatch(pairPattern([486760, 5020330]));
+    expect(SITES.length).toBe(18);
+    expect(RESTRICTED).toEqual([[486760, 5020330]]);
+    for (const site of ANALYST_SITES) expect(analystView).toMatch(pairPattern(site));
+    for (const site of RESTRICTED) expect(analystView).not.toMatch(pairPattern(site));
     expect(await (await page.request.get(page.url())).text()).toContain("483410"); // the server-rendered page carries the map payload
     await expect(page.getByRole("checkbox", { name: "Known sites", exact: true })).toBeChecked();
 

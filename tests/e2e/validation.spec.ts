@@ -1,9 +1,11 @@
 import { test, expect, stateFor, demoReconstructionPublished } from "./fixtures";
 
 // Validation on the demo (the invented Corrastan Shelf): the adopted weight set scored for the
-// "Early Holocene coast" period (8–12 ka, the demo's in-situ sites' ages), then held against the
-// sites on the Validation page — the number of sites, AUC with its interval and the gain per class.
-// The demo holds VEL-002 out (scripts/seed.ts): the page says one site is held out, never where.
+// "Early Holocene coast" period (8–12 ka, where the demo's in-situ sites are dated:
+// scripts/demo/demo-sites.ts), then held against the sites on the Validation page — the number of
+// sites, AUC with its interval and the gain per class. The demo holds VEL-002 out (scripts/seed.ts):
+// the page says one site is held out, never where. (tests/e2e/models.spec.ts sets a trained model
+// beside the adopted weight set on the same page.)
 
 test.describe("validation as the lead", () => {
   test.use({ storageState: stateFor("lead") });
