@@ -31,7 +31,7 @@ test.describe("core targets as the lead", () => {
     await page.getByRole("navigation", { name: "Project" }).getByRole("link", { name: "Core targets", exact: true }).click();
     await expect(page.getByRole("heading", { name: "Core targets", level: 1 })).toBeVisible();
     const form = page.getByRole("form", { name: "Make a target list" });
-    await form.getByLabel("Name").fill("Velmar cruise A");
+    await form.getByLabel("Name", { exact: true }).fill("Velmar cruise A");
     await form.getByLabel("Ranked on").selectOption(`scoring:${scoringId}`);
     await form.getByLabel("Within this of a survey line (m)").fill("250");
     await form.getByLabel("Unassessed horizon").selectOption("core-to-refusal");
@@ -67,7 +67,7 @@ test.describe("core targets as the lead", () => {
     const plan = page.getByTestId("plan-summary");
     await expect(plan).toContainText("The plan fits.");
     const m = /(\d+) cores fit 1 ship days — ([\d.]+) h of ([\d.]+) h/.exec((await plan.textContent())!.replace(/\s+/g, " "));
-    expect(m, await plan.textContent()).not.toBeNull();
+    expect(m, (await plan.textContent()) ?? "").not.toBeNull();
     expect(Number(m![1])).toBeGreaterThan(0);
     expect(Number(m![1])).toBeLessThanOrEqual(total);
     expect(Number(m![2])).toBeLessThanOrEqual(Number(m![3]));
@@ -78,7 +78,11 @@ test.describe("core targets as the lead", () => {
     await expect(page.getByText(/Published .* unchangeable; hash [0-9a-f]{16}/)).toBeVisible();
     await expect(page.getByRole("button", { name: "Publish the list" })).toHaveCount(0);
 
-    const [download] = await Promise.all([page.waitForEvent("download"), page.getByRole("link", { name: "CSV", exact: true }).click()]);
+    const link = page.getByRole("link", { name: "CSV", exact: true });
+    const direct = await page.request.get((await link.getAttribute("href"))!);
+    expect(direct.status(), await direct.text()).toBe(200);
+    expect(direct.headers()["content-disposition"]).toMatch(/attachment; filename=".*\.csv"/);
+    const [download] = await Promise.all([page.waitForEvent("download"), link.click()]);
     const csv = readFileSync((await download.path())!, "utf8");
     expect(csv).toContain("# - Model output is a planning aid: a low score is not evidence of absence.");
     const lines = csv.split("\r\n").filter((l) => l && !l.startsWith("#"));
