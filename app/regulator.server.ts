@@ -13,6 +13,7 @@
 // exact only for callers who may see exact positions; for everyone else generalised to the project's
 // cells, and counts below the project's minimum shown as "< n". A call without a viewer is treated
 // as the least privileged.
+import { storedClassification, toProjectClassification } from "./validations.server";
 import { and, desc, eq, inArray } from "drizzle-orm";
 import proj4 from "proj4";
 import { z } from "zod";
@@ -30,7 +31,7 @@ import { adoptedVersion } from "./weight-sets.server";
 import { targetLabel, type ScoringTarget } from "./scorings.server";
 import { sitesFor, type Viewer } from "./sites.server";
 import { can } from "./permissions";
-import { classifyRaster, fixedClassification, type ProjectClassification } from "./scoring/classification";
+import { classifyRaster, type ProjectClassification } from "./scoring/classification";
 import { ScoringInputError } from "./scoring/errors";
 import { areaM2, blockFigures as figuresOfBlock, maskedSummary, pointInArea, rasterisePolygon, type AreaGeometry, type BlockFigures, type BlockInputs, type PlacedGrid } from "./scoring/block-figures";
 import {
@@ -78,21 +79,8 @@ export const REACH_RULE =
  * "low" … "very high"), which is read the other way round.
  */
 export function classificationOf(stored: Record<string, unknown> | null | undefined): ProjectClassification {
-  const fallback = fixedClassification([0.75, 0.5, 0.25], ["very high", "high", "medium", "low"]);
-  if (!stored || !Array.isArray(stored.thresholds)) return fallback;
-  let thresholds = (stored.thresholds as unknown[]).map(Number);
-  let labels = Array.isArray(stored.labels) ? (stored.labels as unknown[]).map(String) : undefined;
-  if (thresholds.length > 1 && thresholds[0] < thresholds[thresholds.length - 1]) {
-    thresholds = [...thresholds].reverse();
-    labels = labels ? [...labels].reverse() : undefined;
-  }
-  try {
-    const c = fixedClassification(thresholds, labels);
-    return { ...c, kind: stored.kind === "quantile" ? "quantile" : "fixed" };
-  } catch (e) {
-    if (e instanceof ScoringInputError) throw new UserError(409, "bad_classification", `The project's classification cannot be used: ${e.message} A lead sets it in the project settings.`);
-    throw e;
-  }
+  // one reader of projects.classification for every module (either stored order)
+  return toProjectClassification(storedClassification(stored));
 }
 
 // ---------------------------------------------------------------------------------------------

@@ -2,6 +2,7 @@
 // weights and the landscape's own parameters on one age or period of a published reconstruction,
 // seeded and repeatable. Like scorings (decision 009): one row per identical input set (the seed is
 // part of it), files written per attempt, published in one transaction by the attempt owning the run.
+import { storedClassification, toProjectClassification } from "./validations.server";
 import { createHash, randomInt } from "node:crypto";
 import { and, desc, eq, sql } from "drizzle-orm";
 import { z } from "zod";
@@ -12,8 +13,7 @@ import { recordAudit } from "./audit.server";
 import { store } from "./storage.server";
 import { enqueueJob, jobRunStatus } from "./jobs.server";
 import { resolveScoringRequest, targetLabel, type ScoringTarget } from "./scorings.server";
-import { fixedClassification, type ProjectClassification } from "./scoring/classification";
-import { ScoringInputError } from "./scoring/errors";
+import type { ProjectClassification } from "./scoring/classification";
 
 /** Bump when the job's output changes meaning for the same inputs. */
 export const UNCERTAINTY_VERSION = "1";
@@ -72,20 +72,8 @@ export type UncertaintyParams = Omit<z.output<typeof uncertaintyRequest>, "recon
  * when there is one (so "high" includes any class above it), else the top class.
  */
 export function highClassOf(json: unknown): { classification: ProjectClassification; threshold: number; label: string } {
-  const c = (json ?? {}) as { thresholds?: number[]; labels?: string[] };
-  let t = Array.isArray(c.thresholds) ? c.thresholds.map(Number) : [0.75, 0.5, 0.25];
-  let labels = Array.isArray(c.labels) ? c.labels.map(String) : undefined;
-  if (t.length > 1 && t[0] < t[t.length - 1]) {
-    t = [...t].reverse();
-    labels = labels ? [...labels].reverse() : undefined;
-  }
-  let cls: ProjectClassification;
-  try {
-    cls = fixedClassification(t, labels);
-  } catch (e) {
-    if (e instanceof ScoringInputError) throw new UserError(409, "bad_classification", `The project's classification cannot be used: ${e.message} Set it again on the project's settings.`);
-    throw e;
-  }
+  // one reader of projects.classification for every module (either stored order)
+  const cls: ProjectClassification = toProjectClassification(storedClassification(json));
   const k = cls.labels.findIndex((l) => l.trim().toLowerCase() === "high");
   const idx = k >= 0 && k < cls.thresholds.length ? k : 0;
   const label = k >= 0 && k < cls.thresholds.length ? (k === 0 ? cls.labels[0] : `${cls.labels[k]} or above`) : cls.labels[0];
