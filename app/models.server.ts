@@ -49,7 +49,15 @@ export const DEFAULT_MODEL_SETTINGS = {
   trees: DEFAULT_FOREST_SETTINGS.trees,
   maxSamples: DEFAULT_FOREST_SETTINGS.maxSamples,
   minSites: DEFAULT_FOREST_SETTINGS.minPresences,
+  /** at most this many background cells … */
   backgroundCells: 1000,
+  /**
+   * … and by default this many per presence (at least 100): random forests on presence-background
+   * data do better when the background is down-sampled towards the presences (Valavi, R. et al. 2021,
+   * Ecography 44(12), from memory); on the demo, 1 000 cells against 16 presences gave an
+   * out-of-fold AUC of 0.53 and about 20 per presence 0.78.
+   */
+  backgroundPerPresence: 20,
   blockSizeM: 2000,
   folds: 5,
   seed: DEFAULT_FOREST_SETTINGS.seed,
@@ -71,6 +79,7 @@ export const modelSettingsSchema = z
     maxSamples: intIn("maxSamples", 20, 20_000).optional(),
     minSites: intIn("minSites", MIN_SITES_FLOOR, 10_000).optional(),
     backgroundCells: intIn("backgroundCells", 10, 20_000).optional(),
+    backgroundPerPresence: intIn("backgroundPerPresence", 1, 1_000).optional(),
     blockSizeM: metres("blockSizeM", 1, 1_000_000).optional(),
     folds: intIn("folds", 2, 10).optional(),
     seed: intIn("seed", -(2 ** 31), 2 ** 31 - 1).optional(),

@@ -157,7 +157,7 @@ export const modelJob = defineJob<ModelPayload>("model", async (ctx) => {
     const forestSettings = { trees: settings.trees, maxSamples: settings.maxSamples, seed: settings.seed, minPresences: settings.minSites };
     let presenceOnly: TrainingSet;
     try {
-      presenceOnly = trainingSet({ evidence: placed.evidence, background: [], stack, cellCount: n, maxSamples: 1e9, seed: settings.seed });
+      presenceOnly = trainingSet({ evidence: placed.evidence, background: [], stack, cellCount: n, maxSamples: 1e9, seed: settings.seed, land: landByAge });
     } catch (e) {
       throw jobError(e);
     }
@@ -181,9 +181,11 @@ export const modelJob = defineJob<ModelPayload>("model", async (ctx) => {
     const drawAges = ages.filter((a) => (perAge.get(a) ?? 0) > 0);
     let draws: ReturnType<typeof targetGroupBackground>;
     let set: TrainingSet;
+    // down-sampled towards the presences, within the cap (DEFAULT_MODEL_SETTINGS.backgroundPerPresence)
+    const backgroundCount = Math.min(settings.backgroundCells, Math.max(100, settings.backgroundPerPresence * presenceOnly.presences));
     try {
-      draws = targetGroupBackground({ effort: effort.mask, landByAge: drawAges.map((a) => ({ ageKa: a, land: landByAge.get(a)! })), presencesPerAge: drawAges.map((a) => perAge.get(a)!), count: settings.backgroundCells, seed: settings.seed });
-      set = trainingSet({ evidence: placed.evidence, background: draws.map((d) => ({ ageKa: d.ageKa, cells: d.cells })), stack, cellCount: n, maxSamples: settings.maxSamples, seed: settings.seed });
+      draws = targetGroupBackground({ effort: effort.mask, landByAge: drawAges.map((a) => ({ ageKa: a, land: landByAge.get(a)! })), presencesPerAge: drawAges.map((a) => perAge.get(a)!), count: backgroundCount, seed: settings.seed });
+      set = trainingSet({ evidence: placed.evidence, background: draws.map((d) => ({ ageKa: d.ageKa, cells: d.cells })), stack, cellCount: n, maxSamples: settings.maxSamples, seed: settings.seed, land: landByAge });
     } catch (e) {
       throw jobError(e);
     }
@@ -266,7 +268,9 @@ export const modelJob = defineJob<ModelPayload>("model", async (ctx) => {
       outsideAges: placed.outsideAges,
       ages: { model: modelAgeKa, chosen: params.ageChosen, presencesPerAge: [...perAge].sort((a, b) => b[0] - a[0]).map(([ageKa, presences]) => ({ ageKa, presences })) },
       background: {
-        requested: settings.backgroundCells,
+        requested: backgroundCount,
+        perPresence: settings.backgroundPerPresence,
+        cap: settings.backgroundCells,
         drawn: draws.map((d) => ({ ageKa: d.ageKa, requested: d.requested, available: d.available, drawn: d.cells.length })),
         searchedGround: { cells: effort.cells, areaKm2: effort.cells * cellAreaKm2, surveyLineCells: effort.lineCells, coredCells: effort.coreCells, surveyCorridorM: settings.surveyCorridorM, coreRadiusM: settings.coreRadiusM, surveyLines: ev.lines.length, cores: ev.corePositions.length },
         rule: "Survey-line corridors and cored areas; dredging areas are not recorded as an evidence kind yet. Only cells that were land or intertidal at each presence's age.",

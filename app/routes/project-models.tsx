@@ -49,7 +49,7 @@ export async function action({ request, params, context }: Route.ActionArgs) {
   const form = await request.formData();
   return formAction(async () => {
     const settings = Object.fromEntries(
-      (["trees", "minSites", "folds", "blockSizeM", "backgroundCells", "surveyCorridorM", "coreRadiusM"] as const).map((k) => [k, num(form.get(k))]).filter(([, v]) => v !== undefined),
+      (["trees", "minSites", "folds", "blockSizeM", "backgroundCells", "backgroundPerPresence", "surveyCorridorM", "coreRadiusM"] as const).map((k) => [k, num(form.get(k))]).filter(([, v]) => v !== undefined),
     );
     const req = parseForm(modelRequest, {
       reconstructionId: num(form.get("reconstructionId")),
@@ -144,7 +144,8 @@ export default function ProjectModels({ loaderData }: Route.ComponentProps) {
                 ["minSites", "Minimum presences", defaults.minSites, "Refused below this many in-situ sites and cores with material (at least 5)."],
                 ["folds", "Cross-validation folds", defaults.folds, "Whole blocks go to one fold."],
                 ["blockSizeM", "Block size (m)", defaults.blockSizeM, "Larger than the distance over which factors stay alike."],
-                ["backgroundCells", "Background cells", defaults.backgroundCells, "Drawn from searched ground that was land at each site's age."],
+                ["backgroundCells", "Background cells (at most)", defaults.backgroundCells, "Drawn from searched ground that was land at each site's age."],
+                ["backgroundPerPresence", "Background per presence", defaults.backgroundPerPresence, "The background is kept near this many cells per presence (at least 100): forests do better on a down-sampled background."],
                 ["surveyCorridorM", "Survey-line corridor (m)", defaults.surveyCorridorM, "Ground either side of a line counted as searched."],
               ] as const
             ).map(([name, label, def, hint]) => (

@@ -76,6 +76,18 @@ describe("the training set", () => {
     expect(s.backgroundWithoutValues).toBe(1);
   });
 
+  it("leaves out a presence on ground that was sea or lake at its age, as validation does", () => {
+    const ev: Evidence[] = [
+      { kind: "site", id: "wet", context: "in_situ", positionAdequate: true, cell: 5, ageKa: 12 },
+      { kind: "site", id: "dry", context: "in_situ", positionAdequate: true, cell: 6, ageKa: 12 },
+    ];
+    const land = new Uint8Array(cellCount).fill(1);
+    land[5] = 0;
+    const s = trainingSet({ evidence: ev, background: [], stack: world.stack, cellCount, maxSamples: 100, seed: 1, land: new Map([[12, land]]) });
+    expect(s.excluded).toEqual([{ id: "wet", kind: "site", reason: "not land at its age" }]);
+    expect(s.presences).toBe(1);
+  });
+
   it("reads each sample's factor values at its own age", () => {
     for (let i = 0; i < set.labels.length; i++) {
       const layers = world.stack.ages.find((a) => a.ageKa === set.ageKa[i])!.layers;

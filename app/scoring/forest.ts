@@ -76,7 +76,8 @@ export type ExclusionReason =
   | "core without archaeological material (not an absence)"
   | "outside the grid"
   | "no reconstructed age"
-  | "no factor value at its cell";
+  | "no factor value at its cell"
+  | "not land at its age";
 
 /** Factor layers per age, each in the order of `factorIds` (static layers may repeat at every age). */
 export interface FactorStack {
@@ -144,8 +145,10 @@ export function trainingSet(input: {
   cellCount: number;
   maxSamples: number;
   seed: number;
+  /** per age, 1 where the cell was land or intertidal: a presence elsewhere (sea or lake then) is excluded, as validation does */
+  land?: ReadonlyMap<number, Uint8Array>;
 }): TrainingSet {
-  const { evidence, background, stack, cellCount, maxSamples, seed } = input;
+  const { evidence, background, stack, cellCount, maxSamples, seed, land } = input;
   const p = stack.factorIds.length;
   if (p === 0) throw new ScoringInputError("The forest needs at least one factor.", "factors");
   if (new Set(stack.factorIds).size !== p) throw new ScoringInputError("A factor is listed twice for the forest.", "factors");
@@ -178,6 +181,7 @@ export function trainingSet(input: {
     if (!reason && !(Number.isInteger(e.cell) && e.cell >= 0 && e.cell < cellCount)) reason = "outside the grid";
     const layers = byAge.get(e.ageKa);
     if (!reason && !layers) reason = "no reconstructed age";
+    if (!reason && land && land.get(e.ageKa)?.[e.cell] === 0) reason = "not land at its age";
     if (!reason && !read(layers!, e.cell)) reason = "no factor value at its cell";
     if (reason) {
       excluded.push({ id: e.id, kind: e.kind, reason });
