@@ -103,7 +103,7 @@ export function ModelCardView({ card }: { card: CardJson }) {
           What it was trained on
         </h2>
         <p className="mt-1">
-          <span className="tabular-nums" data-testid="card-presences">{s.presences}</span> presences ({s.sites} in-situ sites, {s.cores} cores with archaeological material) against{" "}
+          <span className="tabular-nums" data-testid="card-presences">{s.presences}</span> presences ({s.sites} in-situ {s.sites === 1 ? "site" : "sites"}, {s.cores} {s.cores === 1 ? "core" : "cores"} with archaeological material) against{" "}
           <span className="tabular-nums">{s.background}</span> background cells from searched ground.
           {s.capped ? ` Capped from ${s.capped.presences} presences and ${s.capped.background} background cells.` : ""}
         </p>
@@ -111,10 +111,10 @@ export function ModelCardView({ card }: { card: CardJson }) {
           <ul className="mt-1 list-disc pl-5">
             {Object.entries(s.excluded).map(([r, n]) => (
               <li key={r}>
-                {n} {r} — left out
+                {r} — {n} left out
               </li>
             ))}
-            {card.heldOut ? <li>{card.heldOut} held-out sites — kept for validation</li> : null}
+            {card.heldOut ? <li>held out — {card.heldOut} {card.heldOut === 1 ? "site" : "sites"} kept for validation</li> : null}
           </ul>
         ) : null}
         {card.undated ? <p className="mt-1 text-xs">{card.undated} presences without a calibrated date were compared at the model's age.</p> : null}
