@@ -6,7 +6,9 @@ import { test, expect, stateFor, demoReconstructionPublished } from "./fixtures"
 // targets page makes a constrained list mixing a transect across a typed axis (along the chirp line
 // at y = 5 024 300), best-first targets and control cores in the two lowest classes; the list is
 // ordered into a cruise plan from a port on the west coast that fits one 12-hour ship day; the lead
-// publishes it and downloads the CSV, which carries the cautions and one row per target.
+// publishes it and downloads the CSV, which carries the cautions and one row per target; then records
+// a core and its result (archaeological material, dated 11.0–10.5 ka cal BP) on the page, and the
+// next validation of the scoring counts it as one more presence.
 
 test.describe("core targets as the lead", () => {
   test.use({ storageState: stateFor("lead") });
@@ -90,5 +92,29 @@ test.describe("core targets as the lead", () => {
     expect(lines).toHaveLength(total + 1);
     expect(lines.slice(1).some((l) => l.includes(",transect,"))).toBe(true);
     expect(lines.slice(1).some((l) => l.includes(",control,"))).toBe(true);
+
+    // a core and its result recorded on the page change the next validation of the scoring
+    const listId = /\/targets\/(\d+)/.exec(page.url())![1];
+    const before = (await (await page.request.get(`/api/scorings/${scoringId}/validation`)).json()) as { validation: { inputsHash: string; evidence: Array<{ key: string; used: boolean }> } };
+    const first = (await (await page.request.get(`/api/target-lists/${listId}`)).json()) as { targets: Array<{ id: number; waypoint: string; mode: string }> };
+    const t = first.targets.find((x) => x.mode === "best-first")!;
+    const row = table.locator(`tr[data-waypoint="${t.waypoint}"]`);
+    await row.getByText("Record the core").click();
+    await row.getByLabel("Penetration (m)").fill("3.2");
+    await row.getByLabel("Recovery (m)").fill("2.8");
+    await row.getByLabel("Horizon reached").selectOption("yes");
+    await row.getByRole("button", { name: "Save" }).click();
+    await expect(page.getByRole("status")).toContainText(`${t.waypoint} is now cored.`);
+    await row.getByText("Record the result").click();
+    await row.getByLabel("Preserved land surface").selectOption("yes");
+    await row.getByLabel("Archaeological indicators (empty: none)").fill("charcoal; burnt flint");
+    await row.getByLabel("Calibrated range cal BP, older–younger").fill("11000-10500");
+    await row.getByRole("button", { name: "Save" }).click();
+    await expect(page.getByRole("status")).toContainText(`${t.waypoint} is now result.`);
+    await expect(row.locator("[data-status]")).toHaveText("result");
+    const after = (await (await page.request.get(`/api/scorings/${scoringId}/validation`)).json()) as typeof before;
+    expect(after.validation.inputsHash).not.toBe(before.validation.inputsHash);
+    expect(after.validation.evidence.find((e) => e.key === `target:${t.id}`)?.used).toBe(true);
+    expect(after.validation.evidence.filter((e) => e.used).length).toBe(before.validation.evidence.filter((e) => e.used).length + 1);
   });
 });

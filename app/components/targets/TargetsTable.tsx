@@ -38,7 +38,7 @@ function StatusForm({ t }: { t: TargetRowView }) {
   if (t.status === "result") return null;
   const next = t.status === "planned" ? "cored" : "result";
   return (
-    <details className="print:hidden">
+    <details key={t.status} className="print:hidden">
       <summary className="cursor-pointer text-xs text-deep-800 underline">{next === "cored" ? "Record the core" : "Record the result"}</summary>
       <Form method="post" className="mt-1 grid w-64 gap-1 text-xs" aria-label={`Record ${t.waypoint}`}>
         <input type="hidden" name="intent" value="status" />
