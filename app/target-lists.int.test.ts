@@ -403,6 +403,16 @@ describe("a target list", () => {
     expect(used(after)).toBe(used(before) + 1);
   });
 
+  it("exports a stored target whose factor scores were NaN (kept as null in JSON) as unknown, not as a failure", async () => {
+    const [l] = await db().insert(targetLists).values({ projectId: world.projectId, name: "Gaps", source: { kind: "scoring", id: scoringId }, params: { crs: { epsg: EPSG, label: `EPSG:${EPSG}` }, reconstruction: { id: 0 }, source: { kind: "scoring", id: scoringId, label: "hand-made" } }, status: "published", publishedHash: "x", publishedAt: new Date() }).returning();
+    const [x, y] = [ORIGIN_X + 125, ORIGIN_Y - 125];
+    const [lon, lat] = toLonLat(x, y);
+    await db().insert(targets).values({ listId: l.id, rank: 1, waypoint: "CT01", x, y, lon, lat, detail: { mode: "best-first", score: 0.5, waterDepthM: 20, nearestLine: { line: "L1", fix: "3", distanceM: null, fixDistanceM: null }, contributions: [{ id: "slope", weight: 1, factorScore: null, contribution: null }] } });
+    for (const format of ["csv", "geojson", "gpkg"]) expect((await exportList(l.id, format)).status, format).toBe(200);
+    const csv = await (await exportList(l.id, "csv")).text();
+    expect(csv).toMatch(/slope NaN/);
+  });
+
   it("refuses status changes on a draft list", async () => {
     const r = await postList(mixedRequest({ name: "Draft", cruise: null, modes: [{ kind: "best-first", count: 2 }] }));
     expect(r.status, JSON.stringify(r.body)).toBe(201);
