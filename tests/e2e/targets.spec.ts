@@ -68,7 +68,7 @@ test.describe("core targets as the lead", () => {
     // the cruise plan fits the ship day: no more cores than the list holds, hours within 12
     const plan = page.getByTestId("plan-summary");
     await expect(plan).toContainText("The plan fits.");
-    const m = /(\d+) cores fit 1 ship days — ([\d.]+) h of ([\d.]+) h/.exec((await plan.textContent())!.replace(/\s+/g, " "));
+    const m = /(\d+) cores fit 1 ship day — ([\d.]+) h of ([\d.]+) h/.exec((await plan.textContent())!.replace(/\s+/g, " "));
     expect(m, (await plan.textContent()) ?? "").not.toBeNull();
     expect(Number(m![1])).toBeGreaterThan(0);
     expect(Number(m![1])).toBeLessThanOrEqual(total);

@@ -9,7 +9,7 @@ export function CruisePlanView({ plan }: { plan: PlanView }) {
       <p className="text-sm" data-testid="plan-summary">
         From {plan.port.name} ({plan.port.latDdm} {plan.port.lonDdm}) and back at {plan.settings.speedKnots} kn, {plan.settings.stationHours} h on station per core:{" "}
         <strong>
-          {plan.coresThatFit} cores fit {plan.settings.shipDays} ship days
+          {plan.coresThatFit} cores fit {plan.settings.shipDays} ship day{plan.settings.shipDays === 1 ? "" : "s"}
         </strong>{" "}
         — {plan.totalHours.toFixed(1)} h of {plan.availableHours.toFixed(1)} h ({plan.transitHours.toFixed(1)} h transit, {plan.totalDistanceKm.toFixed(1)} km; {plan.stationHours.toFixed(1)} h on
         station). {plan.fits ? "The plan fits." : "Nothing fits the ship days."}

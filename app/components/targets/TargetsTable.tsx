@@ -90,6 +90,22 @@ function StatusForm({ t }: { t: TargetRowView }) {
   );
 }
 
+/** The three largest contributions (weight × factor score), the rest on hover and in print. */
+function Contributions({ t }: { t: TargetRowView }) {
+  const known = t.contributions.filter((c) => c.weight > 0 && Number.isFinite(c.contribution)).sort((a, b) => b.contribution - a.contribution);
+  if (!known.length) return <>—</>;
+  const word = (c: TargetRowView["contributions"][number]) => `${c.id.replace(/_/g, " ")} ${c.weight.toFixed(2)} × ${c.factorScore.toFixed(2)}`;
+  const rest = known.slice(3);
+  return (
+    <span title={known.map(word).join("\n")}>
+      {known.slice(0, 3).map(word).join("; ")}
+      {rest.length ? <span className="text-sediment-600 print:hidden"> (+{rest.length} more)</span> : null}
+      {rest.length ? <span className="hidden print:inline">; {rest.map(word).join("; ")}</span> : null}
+      {t.occupation !== null ? <div className="text-sediment-600">sum {t.occupation.toFixed(3)}</div> : null}
+    </span>
+  );
+}
+
 export function TargetsTable({ targets, agesKa, mayRecord, exact }: { targets: TargetRowView[]; agesKa: number[]; mayRecord: boolean; exact: boolean }) {
   return (
     <div className="overflow-x-auto">
@@ -142,16 +158,11 @@ export function TargetsTable({ targets, agesKa, mayRecord, exact }: { targets: T
                 {f(t.plannedPenetrationM, 2)} / {f(t.expectedPenetrationM, 1)}
               </td>
               <td className="py-1 pr-2">{t.nearestLine ? `${t.nearestLine.line}${t.nearestLine.fix ? `, fix ${t.nearestLine.fix}` : ""}${Number.isFinite(t.nearestLine.distanceM) ? ` (${t.nearestLine.distanceM.toFixed(0)} m)` : ""}` : "—"}</td>
-              <td className="py-1 pr-2">{t.nearbyExclusions.length ? t.nearbyExclusions.map((e) => `${e.name} (${e.kind})${Number.isFinite(e.distanceM) ? ` ${e.distanceM.toFixed(0)} m` : ""}`).join("; ") : "none near"}</td>
+              <td className="py-1 pr-2">{t.nearbyExclusions.length ? t.nearbyExclusions.map((e) => `${e.kind === "find_spot" ? e.name : `${e.name} (${e.kind})`}${Number.isFinite(e.distanceM) ? ` ${e.distanceM.toFixed(0)} m` : ""}`).join("; ") : "none near"}</td>
               <td className="py-1 pr-2">{formatAgeRuns(agesKa, t.landAgesKa)}</td>
               <td className="py-1 pr-2 tabular-nums">{f(t.score, 3)}</td>
               <td className="py-1">
-                {t.contributions.length
-                  ? [...t.contributions]
-                      .sort((a, b) => b.contribution - a.contribution)
-                      .map((c) => `${c.id} ${c.weight.toFixed(2)}×${f(c.factorScore, 2)}`)
-                      .join("; ")
-                  : "—"}
+                <Contributions t={t} />
               </td>
             </tr>
           ))}
