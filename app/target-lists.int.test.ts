@@ -15,7 +15,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { and, count, eq } from "drizzle-orm";
 import proj4 from "proj4";
 import { db } from "~/db.server";
-import { auditLog, reconstructions, scorings, targetLists, targets } from "~/db/schema";
+import { auditLog, datasets, reconstructions, scorings, siteRecords, targetLists, targets } from "~/db/schema";
 import { createApiToken } from "~/auth.server";
 import { writeGeoTiff } from "~/terrain/geotiff-write";
 import { resolveCrs } from "~/terrain/crs";
@@ -401,6 +401,21 @@ describe("a target list", () => {
     // one more presence scored than before (Kvamme's gain and the AUC count it: validations.server.ts)
     const used = (v: { evidence: Array<{ used: boolean }> }) => v.evidence.filter((e) => e.used).length;
     expect(used(after)).toBe(used(before) + 1);
+  });
+
+  it("keeps targets off a known site its community withheld, without naming it near any target", async () => {
+    const best = list.targets.find((t) => t.mode === "best-first")!;
+    const [d] = await db().select().from(datasets).where(eq(datasets.projectId, world.projectId)).limit(1);
+    await db().insert(siteRecords).values({ projectId: world.projectId, datasetId: d.id, rowNumber: 1, label: "withheld place", x: best.x, y: best.y, precisionM: 5, context: "in_situ", visibility: "withheld", community: "Test shore families" });
+    const r = await postList(mixedRequest({ name: "Around the withheld site" }));
+    expect(r.status, JSON.stringify(r.body)).toBe(201);
+    const g = await getList(r.body.targetList.id);
+    // the find-spot zone is the position uncertainty (5 m) + the find-spot buffer (50 m by default: zones.ts)
+    for (const t of g.body.targets as T[]) {
+      expect(Math.hypot(t.x - best.x, t.y - best.y), t.waypoint).toBeGreaterThan(55);
+      expect(JSON.stringify(t)).not.toContain("withheld place");
+      expect((t as unknown as { nearbyExclusions: Array<{ kind: string }> }).nearbyExclusions.some((e) => e.kind === "find_spot")).toBe(false);
+    }
   });
 
   it("exports a stored target whose factor scores were NaN (kept as null in JSON) as unknown, not as a failure", async () => {

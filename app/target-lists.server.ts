@@ -15,7 +15,7 @@ import { and, asc, desc, eq, inArray } from "drizzle-orm";
 import proj4 from "proj4";
 import { z } from "zod";
 import { db } from "./db.server";
-import { datasets, projects, reconstructions, targetLists, targets } from "./db/schema";
+import { datasets, projects, reconstructions, siteRecords, targetLists, targets } from "./db/schema";
 import { getJson, ObjectNotFound, store } from "./storage.server";
 import { UserError } from "./errors";
 import { recordAudit } from "./audit.server";
@@ -38,7 +38,7 @@ import { applyCurve } from "./scoring/factor-curves";
 import { factorDef } from "./scoring/factors";
 import { shelterIndex } from "./scoring/shelter";
 import { polygonMask, polygonsOfGeometries } from "./scoring/polygon-mask";
-import { planarBuffer, type Geometry } from "./scoring/zones";
+import { exclusionZone, planarBuffer, type Geometry } from "./scoring/zones";
 import type { WeightedFactor } from "./scoring/weighted-sum";
 import { constraintMask, defaultConstraintSet, REASON_TEXT, type ConstraintSet } from "./scoring/target-constraints";
 import {
@@ -220,15 +220,22 @@ function partsOf(g: Geometry): Array<Array<[number, number]>> {
  * The exclusion mask and the features for "nearby exclusions": the reviewer's exclusion zones
  * (wrecks, anomalies, find spots, each grown by uncertainty + buffer: app/regulator.server.ts) and
  * every other feature of the exclusions datasets (cables, pipelines, turbines, anchors) grown by its
- * own buffer_m. Find spots are read exactly here (the mask never leaves the server) and named only
- * "known site" in the nearby list.
+ * own buffer_m. The mask holds every known site exactly — restricted and withheld ones too (the mask
+ * never leaves the server; a core must not land on any of them). The nearby list shows find spots
+ * only as an analyst may see them (restricted ones as their generalised cell, withheld ones not at
+ * all), named "known site".
  */
 async function exclusionInputs(projectId: number, grid: PlacedGrid) {
-  const zones = await exclusionZones(projectId, { viewer: { userId: 0, role: "owner" } });
-  const polys: Geometry[] = [];
-  const nearby: ExclusionFeature[] = [];
-  for (const z of zones.features) {
+  const all = await exclusionZones(projectId, { viewer: { userId: 0, role: "owner" } });
+  const shown = await exclusionZones(projectId, { viewer: { userId: 0, role: "analyst" }, buffers: all.buffersM });
+  const polys: Geometry[] = all.features.map((z) => z.geometry as Geometry);
+  const withheld = await db().select().from(siteRecords).where(and(eq(siteRecords.projectId, projectId), eq(siteRecords.visibility, "withheld")));
+  for (const r of withheld) {
+    const z = exclusionZone({ kind: "find_spot", source: "known sites", label: "", geometry: { type: "Point", coordinates: [r.x, r.y] }, positionUncertaintyM: r.precisionM ?? 0 }, all.buffersM);
     polys.push(z.geometry as Geometry);
+  }
+  const nearby: ExclusionFeature[] = [];
+  for (const z of shown.features) {
     const p = z.properties as { featureKind: string; label: string; distanceM: number };
     // distance to the zone's edge + the zone's width ≈ distance to the feature (exact for points)
     nearby.push({ name: p.featureKind === "find_spot" ? "known site" : p.label, kind: p.featureKind, bufferM: -p.distanceM, parts: partsOf(z.geometry as Geometry) });
@@ -244,7 +251,7 @@ async function exclusionInputs(projectId: number, grid: PlacedGrid) {
     nearby.push({ name: String(f.feature.properties.name ?? `${kind} ${f.index + 1}`), kind, bufferM, parts: partsOf(g) });
   }
   const mask = polys.length ? polygonMask(grid, polygonsOfGeometries(polys).polygons) : null;
-  return { mask, nearby, buffersM: zones.buffersM };
+  return { mask, nearby, buffersM: all.buffersM };
 }
 
 async function surveyAreaMask(projectId: number, grid: PlacedGrid) {
