@@ -85,7 +85,7 @@ export function targetRecord(t: ExportTarget): Record<string, FieldValue> {
     land_ages_ka: t.landAgesKa.length ? t.landAgesKa.join("; ") : null,
     score: round(t.score, 4),
     occupation: round(t.occupation, 4),
-    contributions: t.contributions.length ? t.contributions.map((c) => `${c.id} ${c.contribution.toFixed(4)}`).join("; ") : null,
+    contributions: t.contributions.length ? t.contributions.map((c) => `${c.id} ${Number.isFinite(c.contribution) ? c.contribution.toFixed(4) : "unknown"}`).join("; ") : null,
   };
 }
 
