@@ -119,3 +119,15 @@ export function jobRunStatus(run: JobRun) {
     result: run.result,
   };
 }
+
+/**
+ * The status people see for a product row run by a job (reconstruction, scoring, model, uncertainty
+ * run): the row says "running" until its attempt publishes, so a row whose job ended without
+ * publishing reads as failed or cancelled.
+ */
+export function effectiveRunStatus<S extends string>(status: S | "running" | "failed" | "cancelled", run: Pick<JobRun, "state"> | null | undefined) {
+  if (status !== "running" || !run) return status;
+  if (run.state === "failed") return "failed" as const;
+  if (run.state === "cancelled") return "cancelled" as const;
+  return "running" as const;
+}

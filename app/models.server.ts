@@ -16,7 +16,7 @@ import { datasets, jobRuns, models, reconstructions, siteRecords } from "./db/sc
 import { UserError } from "./errors";
 import { recordAudit } from "./audit.server";
 import { getJson, store } from "./storage.server";
-import { enqueueJob, jobRunStatus } from "./jobs.server";
+import { enqueueJob, jobRunStatus, effectiveRunStatus } from "./jobs.server";
 import { FACTOR_IDS, factorDef, type FactorId } from "./scoring/factors";
 import { DEFAULT_FOREST_SETTINGS, trainingSet, type Evidence, type ExclusionReason } from "./scoring/forest";
 import type { ProjectClassification } from "./scoring/classification";
@@ -418,10 +418,7 @@ type RunRow = typeof jobRuns.$inferSelect;
 
 /** The status people see: a run whose job ended without publishing reads as failed or cancelled. */
 export function modelStatus(m: ModelRow, run: RunRow | null | undefined) {
-  if (m.status !== "running" || !run) return m.status;
-  if (run.state === "failed") return "failed";
-  if (run.state === "cancelled") return "cancelled";
-  return "running";
+  return effectiveRunStatus(m.status, run);
 }
 
 function selectModels() {

@@ -9,7 +9,7 @@ import { db } from "./db.server";
 import { datasets, jobRuns, reconstructions, seaLevelCurves } from "./db/schema";
 import { UserError } from "./errors";
 import { recordAudit } from "./audit.server";
-import { enqueueJob } from "./jobs.server";
+import { enqueueJob, effectiveRunStatus } from "./jobs.server";
 import { ENGINE_VERSION, type Manifest } from "./terrain/reconstruct";
 import { defaultGlobalCurve } from "./terrain/sea-level";
 
@@ -107,10 +107,7 @@ export async function startReconstruction(project: { id: number }, userId: numbe
 
 /** The status people see: a run whose job ended without publishing reads as failed or cancelled. */
 export function effectiveStatus(r: typeof reconstructions.$inferSelect, run: typeof jobRuns.$inferSelect | null | undefined) {
-  if (r.status !== "running" || !run) return r.status;
-  if (run.state === "failed") return "failed";
-  if (run.state === "cancelled") return "cancelled";
-  return "running";
+  return effectiveRunStatus(r.status, run);
 }
 
 export async function listReconstructions(projectId: number) {

@@ -10,7 +10,7 @@ import { datasets, jobRuns, reconstructions, scorings, weightSets, weightSetVers
 import { UserError } from "./errors";
 import { recordAudit } from "./audit.server";
 import { store } from "./storage.server";
-import { enqueueJob, jobRunStatus } from "./jobs.server";
+import { enqueueJob, jobRunStatus, effectiveRunStatus } from "./jobs.server";
 import { ScoringInputError } from "./scoring/errors";
 import { checkPeriodAgainstAges, type PeriodSetting, type WeightSetContent } from "./scoring/weight-set";
 import { weightSetContentSchema } from "./weight-set-schema";
@@ -171,10 +171,7 @@ type RunRow = typeof jobRuns.$inferSelect;
 
 /** The status people see: a run whose job ended without publishing reads as failed or cancelled. */
 export function scoringStatus(s: ScoringRow, run: RunRow | null | undefined) {
-  if (s.status !== "running" || !run) return s.status;
-  if (run.state === "failed") return "failed";
-  if (run.state === "cancelled") return "cancelled";
-  return "running";
+  return effectiveRunStatus(s.status, run);
 }
 
 function selectScorings() {

@@ -11,7 +11,7 @@ import { jobRuns, projects, reconstructions, uncertaintyRuns, weightSets, weight
 import { UserError } from "./errors";
 import { recordAudit } from "./audit.server";
 import { store } from "./storage.server";
-import { enqueueJob, jobRunStatus } from "./jobs.server";
+import { enqueueJob, jobRunStatus, effectiveRunStatus } from "./jobs.server";
 import { resolveScoringRequest, targetLabel, type ScoringTarget } from "./scorings.server";
 import type { ProjectClassification } from "./scoring/classification";
 
@@ -144,10 +144,7 @@ type RunRow = typeof uncertaintyRuns.$inferSelect;
 type JobRow = typeof jobRuns.$inferSelect;
 
 function effective(s: RunRow, run: JobRow | null | undefined) {
-  if (s.status !== "running" || !run) return s.status;
-  if (run.state === "failed") return "failed";
-  if (run.state === "cancelled") return "cancelled";
-  return "running";
+  return effectiveRunStatus(s.status, run);
 }
 
 function selectRuns() {

@@ -9,6 +9,12 @@ import { layerKey } from "../app/reconstructions.server";
 import { layerGrid } from "../app/layers.server";
 import type { Manifest } from "../app/terrain/reconstruct";
 import { JobUserError, type JobContext } from "./wrapper";
+import { eq } from "drizzle-orm";
+import { db } from "../app/db.server";
+import { reconstructions } from "../app/db/schema";
+import { UserError } from "../app/errors";
+import { parseVersionContent, versionWithSet } from "../app/scorings.server";
+import type { WeightSetContent } from "../app/scoring/weight-set";
 
 /** One reconstruction layer as read (Float32, NaN nodata; class layers too, as readGeoTiff returns them). */
 export interface LoadedLayer {
@@ -65,4 +71,26 @@ export async function loadReconstructionLayers(
     ctx.progress(options.from + (options.to - options.from) * ((k + 1) / wanted.length), "reading layers");
   }
   return loaded;
+}
+
+/**
+ * What a job that weighs a reconstruction starts from (the scoring and uncertainty jobs): the
+ * reconstruction, still published, with its manifest, and the weight-set version with its content
+ * checked. Anything gone or no longer valid is the user's to fix: a JobUserError in the job's words.
+ */
+export async function publishedReconstructionAndVersion(
+  reconstructionId: number,
+  versionId: number,
+  words: { notPublished: string; versionGone: string },
+): Promise<{ rec: typeof reconstructions.$inferSelect; manifest: Manifest; v: NonNullable<Awaited<ReturnType<typeof versionWithSet>>>; content: WeightSetContent }> {
+  const [rec] = await db().select().from(reconstructions).where(eq(reconstructions.id, reconstructionId));
+  if (!rec || rec.status !== "published" || !rec.manifest) throw new JobUserError(words.notPublished);
+  const v = await versionWithSet(versionId);
+  if (!v) throw new JobUserError(words.versionGone);
+  try {
+    return { rec, manifest: rec.manifest as unknown as Manifest, v, content: parseVersionContent(v.version.content, `Version ${v.version.version} of "${v.setName}"`) };
+  } catch (e) {
+    if (e instanceof UserError) throw new JobUserError(e.message);
+    throw e;
+  }
 }

@@ -11,10 +11,9 @@
 import { createHash } from "node:crypto";
 import { and, eq, inArray } from "drizzle-orm";
 import { db } from "../app/db.server";
-import { datasets, projects, reconstructions, scorings } from "../app/db/schema";
+import { datasets, projects, scorings } from "../app/db/schema";
 import { getJson, store } from "../app/storage.server";
 import { quantise } from "../app/raster-display";
-import { UserError } from "../app/errors";
 import { writeGeoTiff } from "../app/terrain/geotiff-write";
 import { nodeDeflate } from "../app/terrain/geotiff-deflate-node";
 import { resolveCrs } from "../app/terrain/crs";
@@ -39,16 +38,14 @@ import {
 import {
   EVIDENCE_DATASET_KINDS,
   markScoringEnded,
-  parseVersionContent,
   publishScoring,
   scoringAttemptPrefix,
   scoringFileName,
   targetLabel,
-  versionWithSet,
   type ScoringTarget,
 } from "../app/scorings.server";
 import { defineJob, isUserError, JobUserError } from "./wrapper";
-import { layerId, loadReconstructionLayers, wantLayer, type WantedLayer } from "./reconstruction-layers";
+import { layerId, loadReconstructionLayers, publishedReconstructionAndVersion, wantLayer, type WantedLayer } from "./reconstruction-layers";
 
 export interface ScoringPayload {
   scoringId: number;
@@ -169,18 +166,10 @@ export const scoringJob = defineJob<ScoringPayload>("scoring", async (ctx) => {
   const written: string[] = [];
   try {
     ctx.progress(0.01, "loading inputs");
-    const [rec] = await db().select().from(reconstructions).where(eq(reconstructions.id, s.reconstructionId));
-    if (!rec || rec.status !== "published" || !rec.manifest) throw new JobUserError("The reconstruction is no longer published; it cannot be scored.");
-    const manifest = rec.manifest as unknown as Manifest;
-    const v = await versionWithSet(s.weightSetVersionId);
-    if (!v) throw new JobUserError("The weight-set version was deleted before the scoring could run.");
-    let content: WeightSetContent;
-    try {
-      content = parseVersionContent(v.version.content, `Version ${v.version.version} of "${v.setName}"`);
-    } catch (e) {
-      if (e instanceof UserError) throw new JobUserError(e.message);
-      throw e;
-    }
+    const { rec, manifest, v, content } = await publishedReconstructionAndVersion(s.reconstructionId, s.weightSetVersionId, {
+      notPublished: "The reconstruction is no longer published; it cannot be scored.",
+      versionGone: "The weight-set version was deleted before the scoring could run.",
+    });
     const target = s.target as unknown as ScoringTarget;
     const [project] = await db().select({ crsEpsg: projects.crsEpsg }).from(projects).where(eq(projects.id, s.projectId));
 

@@ -9,11 +9,10 @@
 import { createHash } from "node:crypto";
 import { and, eq, inArray } from "drizzle-orm";
 import { db } from "../app/db.server";
-import { datasets, projects, reconstructions, seaLevelCurves, uncertaintyRuns } from "../app/db/schema";
+import { datasets, projects, seaLevelCurves, uncertaintyRuns } from "../app/db/schema";
 import { getJson, ObjectNotFound, store } from "../app/storage.server";
 import { layerKey } from "../app/reconstructions.server";
 import { layerGrid } from "../app/layers.server";
-import { UserError } from "../app/errors";
 import { writeGeoTiff } from "../app/terrain/geotiff-write";
 import { nodeDeflate } from "../app/terrain/geotiff-deflate-node";
 import { resolveCrs } from "../app/terrain/crs";
@@ -29,8 +28,9 @@ import { rasterisePolygon, type AreaGeometry } from "../app/scoring/block-figure
 import { runUncertainty, type LandscapeContext } from "../app/scoring/uncertainty-run";
 import { geometryVertices, horizonEvidencePoints, scoredAges, targetAges, type CoreEvidence, type InterpretationEvidence, type LayerSource, type ScoreTarget } from "../app/scoring/scoring-inputs";
 import type { WeightSetContent } from "../app/scoring/weight-set";
-import { EVIDENCE_DATASET_KINDS, parseVersionContent, targetLabel, versionWithSet, type ScoringTarget } from "../app/scorings.server";
+import { EVIDENCE_DATASET_KINDS, targetLabel, type ScoringTarget } from "../app/scorings.server";
 import { markUncertaintyEnded, publishUncertainty, uncertaintyAttemptPrefix, type UncertaintyParams } from "../app/uncertainty.server";
+import { publishedReconstructionAndVersion } from "./reconstruction-layers";
 import { defineJob, isUserError, JobUserError } from "./wrapper";
 import { createDrawPool } from "./uncertainty-pool";
 
@@ -95,18 +95,10 @@ export const uncertaintyJob = defineJob<UncertaintyPayload>("uncertainty", async
   let pool: Awaited<ReturnType<typeof createDrawPool>> | null = null;
   try {
     ctx.progress(0.01, "loading inputs");
-    const [rec] = await db().select().from(reconstructions).where(eq(reconstructions.id, u.reconstructionId));
-    if (!rec || rec.status !== "published" || !rec.manifest) throw new JobUserError("The reconstruction is no longer published; the uncertainty cannot be run on it.");
-    const manifest = rec.manifest as unknown as Manifest;
-    const v = await versionWithSet(u.weightSetVersionId);
-    if (!v) throw new JobUserError("The weight-set version was deleted before the run could start.");
-    let content: WeightSetContent;
-    try {
-      content = parseVersionContent(v.version.content, `Version ${v.version.version} of "${v.setName}"`);
-    } catch (e) {
-      if (e instanceof UserError) throw new JobUserError(e.message);
-      throw e;
-    }
+    const { rec, manifest, v, content } = await publishedReconstructionAndVersion(u.reconstructionId, u.weightSetVersionId, {
+      notPublished: "The reconstruction is no longer published; the uncertainty cannot be run on it.",
+      versionGone: "The weight-set version was deleted before the run could start.",
+    });
     const params = u.params as unknown as UncertaintyParams;
     const target = u.target as unknown as ScoringTarget;
     const [project] = await db().select({ crsEpsg: projects.crsEpsg }).from(projects).where(eq(projects.id, u.projectId));
