@@ -13,12 +13,9 @@ import { db } from "~/db.server";
 import { auditLog, exclusionSettings, reconstructions, scorings } from "~/db/schema";
 import { createApiToken } from "~/auth.server";
 import { readGeoTiff } from "~/terrain/geotiff-read";
-import { writeGeoTiff } from "~/terrain/geotiff-write";
 import { resolveCrs } from "~/terrain/crs";
 import { adoptVersion, createWeightSet } from "~/weight-sets.server";
 import { startScoring } from "~/scorings.server";
-import { syntheticGrid } from "../scripts/bench/synthetic-shelf";
-import * as apiDatasets from "~/routes/api.project-datasets";
 import * as apiRecons from "~/routes/api.project-reconstructions";
 import * as apiLayer from "~/routes/api.reconstruction-layer";
 import * as apiRaster from "~/routes/api.scoring-raster";
@@ -31,6 +28,7 @@ import { inflateSync } from "node:zlib";
 import { deskMapLegend } from "~/regulator.server";
 import { classOf, fixedClassification } from "~/scoring/classification";
 import { stopBoss } from "../jobs/boss.server";
+import { shelfTiff, uploadDataset } from "../tests/support/small-shelf";
 import { buildWorld, callWith, ORIGIN, type World } from "../tests/support/world";
 import { FAST_JOB_SETTINGS, startWorker, stopWorkers, waitFor } from "../tests/support/workers";
 
@@ -43,12 +41,6 @@ const CELL = 50;
 const SIZE = 48;
 const EPSG = 32733;
 
-function shelfTiff(): Uint8Array {
-  const g = syntheticGrid(SIZE, 7, CELL);
-  const crs = resolveCrs(EPSG);
-  g.spec = { ...g.spec, originX: ORIGIN_X, originY: ORIGIN_Y, crs: { epsg: crs.epsg, proj4: crs.proj4 } };
-  return writeGeoTiff(g);
-}
 
 /** Picks 2 m below the seabed on three lines across the northern half: the south stays unassessed. */
 function picksCsv(): string {
@@ -79,14 +71,7 @@ const SITES = [
 ] as const;
 const WRECK = [481_900, 5_028_100] as const;
 
-async function upload(kind: string, bytes: Uint8Array, fileName: string, extra: Record<string, string> = {}): Promise<number> {
-  const fd = new FormData();
-  Object.entries({ kind, name: fileName, ...extra }).forEach(([k, v]) => fd.set(k, v));
-  fd.set("file", new Blob([new Uint8Array(bytes)]), fileName);
-  const res = await callWith(apiDatasets.action, new Request(new URL(`/api/projects/${world.projectId}/datasets`, ORIGIN), { method: "POST", body: fd, headers: { Authorization: `Bearer ${tokens.analyst}` } }), { projectId: String(world.projectId) });
-  expect(res.status, await res.clone().text()).toBe(201);
-  return (await res.json()).dataset.id;
-}
+const upload = (kind: string, content: string | Uint8Array, fileName: string, extra: Record<string, string> = {}) => uploadDataset(world, tokens.analyst, kind, content, fileName, extra);
 
 const pid = () => ({ projectId: String(world.projectId) });
 async function get(fn: Parameters<typeof callWith>[0], path: string, who = "reviewer") {

@@ -17,14 +17,11 @@ import proj4 from "proj4";
 import { db } from "~/db.server";
 import { auditLog, datasets, reconstructions, scorings, siteRecords, targetLists, targets } from "~/db/schema";
 import { createApiToken } from "~/auth.server";
-import { writeGeoTiff } from "~/terrain/geotiff-write";
 import { resolveCrs } from "~/terrain/crs";
 import { defaultWeightSetContent } from "~/scoring/weight-set";
 import { METRES_PER_SECOND_PER_KNOT, nearestNeighbourOrder, routeLengthM } from "~/scoring/cruise-plan";
 import { createWeightSet } from "~/weight-sets.server";
 import { publishedHashOf } from "~/target-lists.server";
-import { syntheticGrid } from "../scripts/bench/synthetic-shelf";
-import * as apiDatasets from "~/routes/api.project-datasets";
 import * as apiRecons from "~/routes/api.project-reconstructions";
 import * as apiScorings from "~/routes/api.project-scorings";
 import * as apiLists from "~/routes/api.project-target-lists";
@@ -34,6 +31,7 @@ import * as apiExport from "~/routes/api.target-list-export";
 import * as apiTarget from "~/routes/api.target";
 import * as apiValidation from "~/routes/api.scoring-validation";
 import { stopBoss } from "../jobs/boss.server";
+import { shelfTiff, uploadDataset } from "../tests/support/small-shelf";
 import { buildWorld, callWith, ORIGIN, type World } from "../tests/support/world";
 import { FAST_JOB_SETTINGS, startWorker, stopWorkers, waitFor } from "../tests/support/workers";
 
@@ -48,12 +46,6 @@ const EPSG = 32733;
 const crs = resolveCrs(EPSG);
 const toLonLat = (x: number, y: number) => proj4(crs.proj4, "EPSG:4326", [x, y]);
 const WRECK: [number, number] = [ORIGIN_X + 1225, ORIGIN_Y - 625];
-
-function shelfTiff(): Uint8Array {
-  const g = syntheticGrid(SIZE, 7, CELL);
-  g.spec = { ...g.spec, originX: ORIGIN_X, originY: ORIGIN_Y, crs: { epsg: crs.epsg, proj4: crs.proj4 } };
-  return writeGeoTiff(g);
-}
 
 const LINE_YS = [ORIGIN_Y - 200, ORIGIN_Y - 600, ORIGIN_Y - 1000];
 
@@ -73,14 +65,7 @@ function wreckGeoJson(): string {
   return JSON.stringify({ type: "FeatureCollection", features: [{ type: "Feature", properties: { kind: "wreck", buffer_m: 100, name: "Test wreck" }, geometry: { type: "Point", coordinates: toLonLat(...WRECK) } }] });
 }
 
-async function upload(kind: string, bytes: Uint8Array, fileName: string, extra: Record<string, string> = {}): Promise<number> {
-  const fd = new FormData();
-  Object.entries({ kind, name: fileName, ...extra }).forEach(([k, v]) => fd.set(k, v));
-  fd.set("file", new Blob([new Uint8Array(bytes)]), fileName);
-  const res = await callWith(apiDatasets.action, new Request(new URL(`/api/projects/${world.projectId}/datasets`, ORIGIN), { method: "POST", body: fd, headers: { Authorization: `Bearer ${tokens.analyst}` } }), { projectId: String(world.projectId) });
-  expect(res.status, await res.clone().text()).toBe(201);
-  return (await res.json()).dataset.id;
-}
+const upload = (kind: string, content: string | Uint8Array, fileName: string, extra: Record<string, string> = {}) => uploadDataset(world, tokens.analyst, kind, content, fileName, extra);
 
 const auth = (who: string) => ({ Authorization: `Bearer ${tokens[who]}` });
 const jsonReq = (url: string, method: string, who: string, body?: unknown) =>
@@ -425,7 +410,7 @@ describe("a target list", () => {
     await db().insert(targets).values({ listId: l.id, rank: 1, waypoint: "CT01", x, y, lon, lat, detail: { mode: "best-first", score: 0.5, waterDepthM: 20, nearestLine: { line: "L1", fix: "3", distanceM: null, fixDistanceM: null }, contributions: [{ id: "slope", weight: 1, factorScore: null, contribution: null }] } });
     for (const format of ["csv", "geojson", "gpkg"]) expect((await exportList(l.id, format)).status, format).toBe(200);
     const csv = await (await exportList(l.id, "csv")).text();
-    expect(csv).toMatch(/slope NaN/);
+    expect(csv).toMatch(/slope unknown/);
   });
 
   it("refuses status changes on a draft list", async () => {

@@ -12,21 +12,18 @@ import { db } from "~/db.server";
 import { auditLog, models, reconstructions } from "~/db/schema";
 import { createApiToken } from "~/auth.server";
 import { readGeoTiff } from "~/terrain/geotiff-read";
-import { writeGeoTiff } from "~/terrain/geotiff-write";
-import { resolveCrs } from "~/terrain/crs";
 import { layerGrid } from "~/layers.server";
 import { layerKey } from "~/reconstructions.server";
 import type { Manifest } from "~/terrain/reconstruct";
 import { deserialiseForest } from "~/scoring/forest";
 import { getJson } from "~/storage.server";
-import { syntheticGrid } from "../scripts/bench/synthetic-shelf";
-import * as apiDatasets from "~/routes/api.project-datasets";
 import * as apiRecons from "~/routes/api.project-reconstructions";
 import * as apiModels from "~/routes/api.project-models";
 import * as apiModel from "~/routes/api.model";
 import * as apiRaster from "~/routes/api.model-raster";
 import * as apiValidation from "~/routes/api.model-validation";
 import { stopBoss } from "./boss.server";
+import { shelfTiff, uploadDataset } from "../tests/support/small-shelf";
 import { buildWorld, callWith, ORIGIN, type World } from "../tests/support/world";
 import { FAST_JOB_SETTINGS, startWorker, stopWorkers, waitFor } from "../tests/support/workers";
 
@@ -42,21 +39,8 @@ const FACTORS = ["dist_stream", "dist_shoreline", "slope", "tpi", "height_above_
 /** small enough to train in well under a second per fold */
 const SMALL = { trees: 10, folds: 2, blockSizeM: 600, backgroundCells: 200, minSites: 5, seed: 11 };
 
-function shelfTiff(): Uint8Array {
-  const g = syntheticGrid(SIZE, 7, CELL);
-  const crs = resolveCrs(32733);
-  g.spec = { ...g.spec, originX: ORIGIN_X, originY: ORIGIN_Y, crs: { epsg: crs.epsg, proj4: crs.proj4 } };
-  return writeGeoTiff(g);
-}
 
-async function upload(kind: string, content: string | Uint8Array, fileName: string, extra: Record<string, string> = {}): Promise<number> {
-  const fd = new FormData();
-  Object.entries({ kind, name: fileName, ...extra }).forEach(([k, v]) => fd.set(k, v));
-  fd.set("file", new Blob([typeof content === "string" ? new TextEncoder().encode(content) : new Uint8Array(content)]), fileName);
-  const res = await callWith(apiDatasets.action, new Request(new URL(`/api/projects/${world.projectId}/datasets`, ORIGIN), { method: "POST", body: fd, headers: { Authorization: `Bearer ${token}` } }), { projectId: String(world.projectId) });
-  expect(res.status, await res.clone().text()).toBe(201);
-  return (await res.json()).dataset.id;
-}
+const upload = (kind: string, content: string | Uint8Array, fileName: string, extra: Record<string, string> = {}) => uploadDataset(world, token, kind, content, fileName, extra);
 
 const auth = (t = token) => ({ Authorization: `Bearer ${t}` });
 

@@ -19,21 +19,18 @@ import { datasets, reconstructions, scorings, weightSetVersions } from "~/db/sch
 import { createApiToken } from "~/auth.server";
 import { getJson } from "~/storage.server";
 import { readGeoTiff } from "~/terrain/geotiff-read";
-import { writeGeoTiff } from "~/terrain/geotiff-write";
-import { resolveCrs } from "~/terrain/crs";
 import type { Manifest } from "~/terrain/reconstruct";
 import { defaultWeightSetContent, type WeightSetContent } from "~/scoring/weight-set";
 import { potentialChecksum, type LayerData } from "~/scoring/potential";
 import { horizonEvidencePoints, scoreTarget, type CoreEvidence, type ScoreTarget } from "~/scoring/scoring-inputs";
 import { createWeightSet, saveWeightSetVersion } from "~/weight-sets.server";
-import { syntheticGrid } from "../scripts/bench/synthetic-shelf";
-import * as apiDatasets from "~/routes/api.project-datasets";
 import * as apiRecons from "~/routes/api.project-reconstructions";
 import * as apiLayer from "~/routes/api.reconstruction-layer";
 import * as apiScorings from "~/routes/api.project-scorings";
 import * as apiScoring from "~/routes/api.scoring";
 import * as apiRaster from "~/routes/api.scoring-raster";
 import { stopBoss } from "./boss.server";
+import { shelfTiff, uploadDataset } from "../tests/support/small-shelf";
 import { buildWorld, callWith, ORIGIN, type World } from "../tests/support/world";
 import { FAST_JOB_SETTINGS, startWorker, stopWorkers, waitFor } from "../tests/support/workers";
 
@@ -46,13 +43,6 @@ const ORIGIN_Y = 5_030_000;
 const CELL = 50;
 const SIZE = 48;
 
-/** An invented shelf from the engine's own generator, placed in the project's CRS (UTM 33S). */
-function shelfTiff(): Uint8Array {
-  const g = syntheticGrid(SIZE, 7, CELL);
-  const crs = resolveCrs(32733);
-  g.spec = { ...g.spec, originX: ORIGIN_X, originY: ORIGIN_Y, crs: { epsg: crs.epsg, proj4: crs.proj4 } };
-  return writeGeoTiff(g);
-}
 
 /** Picks 2 m below the seabed on three east–west lines across the northern half: the south stays unassessed. */
 function picksCsv(): string {
@@ -72,14 +62,7 @@ function coresCsv(): string {
   ].join("\n") + "\n";
 }
 
-async function upload(kind: string, bytes: Uint8Array, fileName: string, extra: Record<string, string> = {}): Promise<number> {
-  const fd = new FormData();
-  Object.entries({ kind, name: fileName, ...extra }).forEach(([k, v]) => fd.set(k, v));
-  fd.set("file", new Blob([new Uint8Array(bytes)]), fileName);
-  const res = await callWith(apiDatasets.action, new Request(new URL(`/api/projects/${world.projectId}/datasets`, ORIGIN), { method: "POST", body: fd, headers: { Authorization: `Bearer ${token}` } }), { projectId: String(world.projectId) });
-  expect(res.status, await res.clone().text()).toBe(201);
-  return (await res.json()).dataset.id;
-}
+const upload = (kind: string, content: string | Uint8Array, fileName: string, extra: Record<string, string> = {}) => uploadDataset(world, token, kind, content, fileName, extra);
 
 const auth = (t = token) => ({ Authorization: `Bearer ${t}` });
 
