@@ -619,7 +619,7 @@ function FullScoringPanel({ data, reconstructionId, target, dirty }: { data: Loa
       <ul className="space-y-1" data-testid="scoring-runs">
         {runs.map((s) => (
           <li key={s.id} className="border-t border-sand-200 pt-1" data-status={s.status} data-scoring-id={s.id}>
-            <span className="font-semibold">#{s.id}</span> v{(s.version as { version?: number } | null)?.version ?? "?"} · {s.targetLabel} · {s.status}
+            <span className="font-semibold">#{s.id}</span> v{s.version.number} · {s.targetLabel} · {s.status}
             {s.status === "running" ? ` ${Math.round(100 * (s.progress ?? 0))} %` : ""}
             {s.error ? <div className="text-caution-800">{s.error}</div> : null}
             {s.downloads.length ? (

@@ -28,3 +28,26 @@ export async function demoReconstructionPublished(page: import("@playwright/test
   await expect(page.getByTestId("reconstruction")).toHaveAttribute("data-status", "published", { timeout: 120_000 });
   return /\/reconstructions\/(\d+)/.exec(page.url())![1];
 }
+
+/**
+ * Scores the project's adopted weight-set version on the reconstruction at `target` through the API,
+ * as an analyst or lead would (an identical request reuses the scoring), and waits until it is
+ * published. Returns the scoring's id.
+ */
+export async function scoreAdoptedVersion(
+  request: import("@playwright/test").APIRequestContext,
+  origin: string,
+  projectId: string | number,
+  reconstructionId: number,
+  target: { kind: "age"; ageKa: number } | { kind: "period"; name: string },
+): Promise<number> {
+  const adopted = (await (await request.get(`/api/projects/${projectId}/weight-sets/adopted`)).json()) as { adopted: { versionId: number } | null };
+  expect(adopted.adopted?.versionId, "the demo adopts a weight-set version").toBeTruthy();
+  const started = await request.post(`/api/projects/${projectId}/scorings`, { headers: { Origin: origin }, data: { reconstructionId, weightSetVersionId: adopted.adopted!.versionId, target } });
+  expect([200, 202], await started.text()).toContain(started.status());
+  const scoringId = ((await started.json()) as { scoring: { id: number } }).scoring.id;
+  await expect
+    .poll(async () => ((await (await request.get(`/api/scorings/${scoringId}`)).json()) as { scoring: { status: string } }).scoring.status, { timeout: 180_000 })
+    .toBe("published");
+  return scoringId;
+}

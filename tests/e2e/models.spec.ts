@@ -1,4 +1,4 @@
-import { test, expect, stateFor, demoReconstructionPublished } from "./fixtures";
+import { test, expect, stateFor, demoReconstructionPublished, scoreAdoptedVersion } from "./fixtures";
 
 // Trained models on the demo (scripts/demo/demo-sites.ts, demo-files.ts, scripts/seed.ts): 16
 // in-situ sites — VEL-002 of them in the hold-out — and one core with archaeological material
@@ -70,17 +70,7 @@ test.describe("models as the lead", () => {
     expect(model).toMatchObject({ status: "published", ageKa: 10 });
 
     // The adopted weight set scored at the model's age (an identical request reuses the scoring).
-    const adopted = (await (await page.request.get(`/api/projects/${projectId}/weight-sets/adopted`)).json()) as { adopted: { versionId: number } | null };
-    expect(adopted.adopted?.versionId, "the demo adopts a weight-set version").toBeTruthy();
-    const started = await page.request.post(`/api/projects/${projectId}/scorings`, {
-      headers: { Origin: baseURL! },
-      data: { reconstructionId, weightSetVersionId: adopted.adopted!.versionId, target: { kind: "age", ageKa: model.ageKa } },
-    });
-    expect([200, 202], await started.text()).toContain(started.status());
-    const scoringId = ((await started.json()) as { scoring: { id: number } }).scoring.id;
-    await expect
-      .poll(async () => ((await (await page.request.get(`/api/scorings/${scoringId}`)).json()) as { scoring: { status: string } }).scoring.status, { timeout: 180_000 })
-      .toBe("published");
+    const scoringId = await scoreAdoptedVersion(page.request, baseURL!, projectId, reconstructionId, { kind: "age", ageKa: model.ageKa });
 
     // Side by side on the Validation page: the same sites, the same classification.
     await page.goto(`/projects/${projectId}`);

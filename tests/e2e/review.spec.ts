@@ -1,4 +1,4 @@
-import { test, expect, stateFor, demoReconstructionPublished } from "./fixtures";
+import { test, expect, stateFor, demoReconstructionPublished, scoreAdoptedVersion } from "./fixtures";
 import { demoUsers } from "../../scripts/demo/demo-data";
 
 // A review on the demo (the invented Corrastan Shelf): the analyst scores the adopted weight set at
@@ -17,18 +17,7 @@ test.describe("a regulator's review", () => {
     const a = await analyst.newPage();
     const reconstructionId = Number(await demoReconstructionPublished(a));
     const projectId = /\/projects\/(\d+)/.exec(a.url())![1];
-    const adopted = (await (await a.request.get(`/api/projects/${projectId}/weight-sets/adopted`)).json()) as { adopted: { versionId: number } | null };
-    const versionId = adopted.adopted?.versionId;
-    expect(versionId, "the demo adopts a weight-set version").toBeTruthy();
-    const started = await a.request.post(`/api/projects/${projectId}/scorings`, {
-      headers: { Origin: baseURL! },
-      data: { reconstructionId, weightSetVersionId: versionId, target: { kind: "age", ageKa: 20 } },
-    });
-    expect([200, 202], await started.text()).toContain(started.status());
-    const scoringId = ((await started.json()) as { scoring: { id: number } }).scoring.id;
-    await expect
-      .poll(async () => ((await (await a.request.get(`/api/scorings/${scoringId}`)).json()) as { scoring: { status: string } }).scoring.status, { timeout: 180_000 })
-      .toBe("published");
+    const scoringId = await scoreAdoptedVersion(a.request, baseURL!, projectId, reconstructionId, { kind: "age", ageKa: 20 });
     await analyst.close();
 
     const reviewer = await browser.newContext({ storageState: stateFor("reviewer") });

@@ -1,4 +1,4 @@
-import { test, expect, stateFor, demoReconstructionPublished } from "./fixtures";
+import { test, expect, stateFor, demoReconstructionPublished, scoreAdoptedVersion } from "./fixtures";
 
 // Validation on the demo (the invented Corrastan Shelf): the adopted weight set scored for the
 // "Early Holocene coast" period (8–12 ka, where the demo's in-situ sites are dated:
@@ -14,17 +14,7 @@ test.describe("validation as the lead", () => {
   test("the lead opens Validation and sees gain, AUC with its interval and the number of sites", async ({ page, baseURL }) => {
     const reconstructionId = Number(await demoReconstructionPublished(page));
     const projectId = /\/projects\/(\d+)/.exec(page.url())![1];
-    const adopted = (await (await page.request.get(`/api/projects/${projectId}/weight-sets/adopted`)).json()) as { adopted: { versionId: number } | null };
-    expect(adopted.adopted?.versionId, "the demo adopts a weight-set version").toBeTruthy();
-    const started = await page.request.post(`/api/projects/${projectId}/scorings`, {
-      headers: { Origin: baseURL! },
-      data: { reconstructionId, weightSetVersionId: adopted.adopted!.versionId, target: { kind: "period", name: "Early Holocene coast" } },
-    });
-    expect([200, 202], await started.text()).toContain(started.status());
-    const scoringId = ((await started.json()) as { scoring: { id: number } }).scoring.id;
-    await expect
-      .poll(async () => ((await (await page.request.get(`/api/scorings/${scoringId}`)).json()) as { scoring: { status: string } }).scoring.status, { timeout: 180_000 })
-      .toBe("published");
+    const scoringId = await scoreAdoptedVersion(page.request, baseURL!, projectId, reconstructionId, { kind: "period", name: "Early Holocene coast" });
 
     await page.goto(`/projects/${projectId}`);
     await page.getByRole("navigation", { name: "Project" }).getByRole("link", { name: "Validation", exact: true }).click();
