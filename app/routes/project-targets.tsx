@@ -131,7 +131,7 @@ export default function ProjectTargets({ loaderData }: Route.ComponentProps) {
       </p>
       <Cautions compact />
       {lists.length === 0 ? (
-        <p className="text-sm text-sediment-600">No target lists yet.</p>
+        <p className="text-sm text-sediment-600">No target lists yet. An analyst, lead or owner makes one from a published scoring (score a weight set at full resolution on its Weights page first).</p>
       ) : (
         <table className="w-full text-sm">
           <thead className="border-b border-sand-300 text-left text-xs uppercase tracking-wide text-sediment-600">
