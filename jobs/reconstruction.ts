@@ -81,7 +81,7 @@ export const reconstructionJob = defineJob<ReconstructionPayload>("reconstructio
     const spec = input.seabed.spec;
     const threads = Number(process.env.LOWSTAND_ENGINE_THREADS ?? 2);
     const sink = async (layer: LayerOut) => {
-      const bytes = writeGeoTiff({ spec, data: layer.data, nodata: nodataMaskOf(layer) }, { deflate: nodeDeflate, layout: "tiles", nodataValue: layer.nodata === "NaN" ? null : layer.nodata });
+      const bytes = writeGeoTiff({ spec, data: layer.data, nodata: nodataMaskOf(layer) }, { deflate: nodeDeflate, layout: "tiles", nodataValue: layer.nodata === "NaN" ? undefined : layer.nodata });
       const key = `${prefix}/${layerFileName(layer.name, layer.ageKa)}`;
       await store().put(key, bytes, "image/tiff");
       written.push(key);
