@@ -1,7 +1,7 @@
 // Long tasks as routes see them: start one, read its progress, ask it to stop, list a project's.
 // The work runs in worker processes (jobs/worker.ts); this module only writes job_runs rows and
 // sends to pg-boss, in one transaction. Role checks are the caller's (routes ask permissions first).
-import { and, desc, eq } from "drizzle-orm";
+import { and, desc, eq, sql } from "drizzle-orm";
 import { randomUUID } from "node:crypto";
 import { db, type Db } from "./db.server";
 import { jobRuns } from "./db/schema";
@@ -130,4 +130,12 @@ export function effectiveRunStatus<S extends string>(status: S | "running" | "fa
   if (run.state === "failed") return "failed" as const;
   if (run.state === "cancelled") return "cancelled" as const;
   return "running" as const;
+}
+
+/**
+ * The guard every publication uses (decisions 009, 402): true only while `attempt` is still the
+ * current attempt of job run `runId` — a retried or taken-over attempt publishes nothing.
+ */
+export function attemptOwnsRun(runId: string, attempt: number) {
+  return sql`exists (select 1 from ${jobRuns} where ${jobRuns.id} = ${runId} and ${jobRuns.attempt} = ${attempt})`;
 }

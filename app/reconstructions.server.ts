@@ -3,13 +3,13 @@
 // only by the attempt that owns the run. Identical inputs (content hashes of the datasets, the
 // curve's points, the parameters and the engine version) return the existing run.
 import { createHash } from "node:crypto";
-import { and, desc, eq, inArray, sql } from "drizzle-orm";
+import { and, desc, eq, inArray } from "drizzle-orm";
 import { z } from "zod";
 import { db } from "./db.server";
 import { datasets, jobRuns, reconstructions, seaLevelCurves } from "./db/schema";
 import { UserError } from "./errors";
 import { recordAudit } from "./audit.server";
-import { enqueueJob, effectiveRunStatus } from "./jobs.server";
+import { enqueueJob, effectiveRunStatus, attemptOwnsRun } from "./jobs.server";
 import { ENGINE_VERSION, type Manifest } from "./terrain/reconstruct";
 import { defaultGlobalCurve } from "./terrain/sea-level";
 
@@ -161,7 +161,7 @@ export async function publishManifest(reconstructionId: number, runId: string, a
           eq(reconstructions.id, reconstructionId),
           eq(reconstructions.jobRunId, runId),
           eq(reconstructions.status, "running"),
-          sql`exists (select 1 from ${jobRuns} where ${jobRuns.id} = ${runId} and ${jobRuns.attempt} = ${attempt})`,
+          attemptOwnsRun(runId, attempt),
         ),
       )
       .returning({ id: reconstructions.id, projectId: reconstructions.projectId });

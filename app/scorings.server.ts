@@ -3,14 +3,14 @@
 // Like reconstructions (decision 009): one row per identical input set, files written per attempt,
 // publication in one transaction by the attempt that owns the run.
 import { createHash } from "node:crypto";
-import { and, desc, eq, inArray, sql } from "drizzle-orm";
+import { and, desc, eq, inArray } from "drizzle-orm";
 import { z } from "zod";
 import { db } from "./db.server";
 import { datasets, jobRuns, reconstructions, scorings, weightSets, weightSetVersions } from "./db/schema";
 import { UserError } from "./errors";
 import { recordAudit } from "./audit.server";
 import { store } from "./storage.server";
-import { enqueueJob, jobRunStatus, effectiveRunStatus } from "./jobs.server";
+import { enqueueJob, jobRunStatus, effectiveRunStatus, attemptOwnsRun } from "./jobs.server";
 import { ScoringInputError } from "./scoring/errors";
 import { checkPeriodAgainstAges, type PeriodSetting, type WeightSetContent } from "./scoring/weight-set";
 import { weightSetContentSchema } from "./weight-set-schema";
@@ -232,7 +232,7 @@ export async function publishScoring(scoringId: number, runId: string, attempt: 
           eq(scorings.id, scoringId),
           eq(scorings.jobRunId, runId),
           eq(scorings.status, "running"),
-          sql`exists (select 1 from ${jobRuns} where ${jobRuns.id} = ${runId} and ${jobRuns.attempt} = ${attempt})`,
+          attemptOwnsRun(runId, attempt),
         ),
       )
       .returning({ id: scorings.id, projectId: scorings.projectId });

@@ -4,14 +4,14 @@
 // part of it), files written per attempt, published in one transaction by the attempt owning the run.
 import { storedClassification, toProjectClassification } from "./validations.server";
 import { createHash, randomInt } from "node:crypto";
-import { and, desc, eq, sql } from "drizzle-orm";
+import { and, desc, eq } from "drizzle-orm";
 import { z } from "zod";
 import { db } from "./db.server";
 import { jobRuns, projects, reconstructions, uncertaintyRuns, weightSets, weightSetVersions } from "./db/schema";
 import { UserError } from "./errors";
 import { recordAudit } from "./audit.server";
 import { store } from "./storage.server";
-import { enqueueJob, jobRunStatus, effectiveRunStatus } from "./jobs.server";
+import { enqueueJob, jobRunStatus, effectiveRunStatus, attemptOwnsRun } from "./jobs.server";
 import { resolveScoringRequest, targetLabel, type ScoringTarget } from "./scorings.server";
 import type { ProjectClassification } from "./scoring/classification";
 
@@ -223,7 +223,7 @@ export async function publishUncertainty(id: number, jobRunId: string, attempt: 
           eq(uncertaintyRuns.id, id),
           eq(uncertaintyRuns.jobRunId, jobRunId),
           eq(uncertaintyRuns.status, "running"),
-          sql`exists (select 1 from ${jobRuns} where ${jobRuns.id} = ${jobRunId} and ${jobRuns.attempt} = ${attempt})`,
+          attemptOwnsRun(jobRunId, attempt),
         ),
       )
       .returning({ id: uncertaintyRuns.id, projectId: uncertaintyRuns.projectId });

@@ -44,7 +44,7 @@ import {
   tooFewMessage,
   type ModelParams,
 } from "../app/models.server";
-import { defineJob, isUserError, JobUserError } from "./wrapper";
+import { defineJob, JobUserError, markRowEnded } from "./wrapper";
 import { layerId, loadReconstructionLayers, wantLayer, type WantedLayer } from "./reconstruction-layers";
 import { predictRasterInPool, PredictionCancelled } from "./forest-predict-pool";
 import { TerrainCancelled } from "../app/terrain/grid";
@@ -302,8 +302,7 @@ export const modelJob = defineJob<ModelPayload>("model", async (ctx) => {
     written.length = 0;
     return { modelId: m.id, presences: set.presences, background: set.background, auc: cv.summary.auc.mean };
   } catch (err) {
-    if (ctx.stopReason() === "cancel") await markModelEnded(m.id, ctx.runId, "cancelled", "Cancelled on request.");
-    else if (isUserError(err)) await markModelEnded(m.id, ctx.runId, "failed", (err as Error).message, partialCard);
+    await markRowEnded(ctx, err, (status, message) => markModelEnded(m.id, ctx.runId, status, message, status === "failed" ? partialCard : null));
     throw err;
   } finally {
     await Promise.all(written.map((k) => store().delete(k).catch(() => undefined)));

@@ -16,7 +16,7 @@ import { defaultGlobalCurve, type SeaLevelCurve } from "../app/terrain/sea-level
 import type { SurveyLine } from "../app/terrain/survey-lines";
 import { curveFromRow } from "../app/sea-level-curves.server";
 import { attemptPrefix, layerFileName, markReconstructionEnded, publishManifest, reconstructionParams } from "../app/reconstructions.server";
-import { defineJob, isUserError, JobUserError } from "./wrapper";
+import { defineJob, JobUserError, markRowEnded } from "./wrapper";
 
 export interface ReconstructionPayload {
   reconstructionId: number;
@@ -101,8 +101,7 @@ export const reconstructionJob = defineJob<ReconstructionPayload>("reconstructio
     // Record only what is certain here: a user's cancellation, or their bad input. A crash is
     // retried, and a run given up reads as failed from its job (effectiveStatus) with the job's
     // message, which does not expose our internals.
-    if (ctx.stopReason() === "cancel") await markReconstructionEnded(rec.id, ctx.runId, "cancelled", "Cancelled on request.");
-    else if (isUserError(err)) await markReconstructionEnded(rec.id, ctx.runId, "failed", (err as Error).message);
+    await markRowEnded(ctx, err, (status, message) => markReconstructionEnded(rec.id, ctx.runId, status, message));
     throw err;
   } finally {
     // Layers of an attempt that did not publish are never read; remove them now.

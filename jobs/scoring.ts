@@ -44,7 +44,7 @@ import {
   targetLabel,
   type ScoringTarget,
 } from "../app/scorings.server";
-import { defineJob, isUserError, JobUserError } from "./wrapper";
+import { defineJob, JobUserError, markRowEnded } from "./wrapper";
 import { layerId, loadReconstructionLayers, publishedReconstructionAndVersion, wantLayer, type WantedLayer } from "./reconstruction-layers";
 
 export interface ScoringPayload {
@@ -318,8 +318,7 @@ export const scoringJob = defineJob<ScoringPayload>("scoring", async (ctx) => {
     written.length = 0;
     return { scoringId: s.id, files: files.length };
   } catch (err) {
-    if (ctx.stopReason() === "cancel") await markScoringEnded(s.id, ctx.runId, "cancelled", "Cancelled on request.");
-    else if (isUserError(err)) await markScoringEnded(s.id, ctx.runId, "failed", (err as Error).message);
+    await markRowEnded(ctx, err, (status, message) => markScoringEnded(s.id, ctx.runId, status, message));
     throw err;
   } finally {
     await Promise.all(written.map((k) => store().delete(k).catch(() => undefined)));

@@ -31,7 +31,7 @@ import type { WeightSetContent } from "../app/scoring/weight-set";
 import { EVIDENCE_DATASET_KINDS, targetLabel, type ScoringTarget } from "../app/scorings.server";
 import { markUncertaintyEnded, publishUncertainty, uncertaintyAttemptPrefix, type UncertaintyParams } from "../app/uncertainty.server";
 import { publishedReconstructionAndVersion } from "./reconstruction-layers";
-import { defineJob, isUserError, JobUserError } from "./wrapper";
+import { defineJob, JobUserError, markRowEnded } from "./wrapper";
 import { createDrawPool } from "./uncertainty-pool";
 
 export interface UncertaintyPayload {
@@ -333,8 +333,7 @@ export const uncertaintyJob = defineJob<UncertaintyPayload>("uncertainty", async
     written.length = 0;
     return { uncertaintyRunId: u.id, files: files.length };
   } catch (err) {
-    if (ctx.stopReason() === "cancel") await markUncertaintyEnded(u.id, ctx.runId, "cancelled", "Cancelled on request.");
-    else if (isUserError(err)) await markUncertaintyEnded(u.id, ctx.runId, "failed", (err as Error).message);
+    await markRowEnded(ctx, err, (status, message) => markUncertaintyEnded(u.id, ctx.runId, status, message));
     throw err;
   } finally {
     if (pool) await pool.close().catch(() => undefined);

@@ -301,3 +301,13 @@ async function settle(job: QueueJob, runId: string, attempt: number, outcome: Ou
   if (mailed) kickMailDispatcher();
   log(job, runId, attempt, `ended: ${outcome.type}`);
 }
+
+/**
+ * In a job's catch block: record on the product row (reconstruction, scoring, model, uncertainty run)
+ * why this attempt ended — cancelled on request, or failed with the user's own error (our own
+ * errors are retried by the wrapper and leave the row running). `mark` writes the row.
+ */
+export async function markRowEnded(ctx: Pick<JobContext<unknown>, "stopReason">, err: unknown, mark: (status: "failed" | "cancelled", message: string) => Promise<void>): Promise<void> {
+  if (ctx.stopReason() === "cancel") await mark("cancelled", "Cancelled on request.");
+  else if (isUserError(err)) await mark("failed", err.message);
+}
