@@ -31,7 +31,7 @@ import * as apiExport from "~/routes/api.target-list-export";
 import * as apiTarget from "~/routes/api.target";
 import * as apiValidation from "~/routes/api.scoring-validation";
 import { stopBoss } from "../jobs/boss.server";
-import { shelfTiff, uploadDataset } from "../tests/support/small-shelf";
+import { shelfTiff, uploadDataset, shelfPicksCsv } from "../tests/support/small-shelf";
 import { buildWorld, callWith, ORIGIN, type World } from "../tests/support/world";
 import { FAST_JOB_SETTINGS, startWorker, stopWorkers, waitFor } from "../tests/support/workers";
 
@@ -49,11 +49,7 @@ const WRECK: [number, number] = [ORIGIN_X + 1225, ORIGIN_Y - 625];
 
 const LINE_YS = [ORIGIN_Y - 200, ORIGIN_Y - 600, ORIGIN_Y - 1000];
 
-function picksCsv(): string {
-  const lines = ["line_id,x,y,depth_below_seabed_m"];
-  for (const [k, y] of LINE_YS.entries()) for (let x = ORIGIN_X + 100; x < ORIGIN_X + SIZE * CELL - 50; x += 100) lines.push(`L${k + 1},${x},${y},2`);
-  return lines.join("\n") + "\n";
-}
+const picksCsv = () => shelfPicksCsv();
 
 function surveyLinesCsv(): string {
   const lines = ["line_id,fix_id,x,y,system,vertical_resolution_m"];

@@ -30,7 +30,7 @@ import * as apiScorings from "~/routes/api.project-scorings";
 import * as apiScoring from "~/routes/api.scoring";
 import * as apiRaster from "~/routes/api.scoring-raster";
 import { stopBoss } from "./boss.server";
-import { shelfTiff, uploadDataset } from "../tests/support/small-shelf";
+import { shelfTiff, uploadDataset, shelfPicksCsv, shelfCoresCsv } from "../tests/support/small-shelf";
 import { buildWorld, callWith, ORIGIN, type World } from "../tests/support/world";
 import { FAST_JOB_SETTINGS, startWorker, stopWorkers, waitFor } from "../tests/support/workers";
 
@@ -44,23 +44,9 @@ const CELL = 50;
 const SIZE = 48;
 
 
-/** Picks 2 m below the seabed on three east–west lines across the northern half: the south stays unassessed. */
-function picksCsv(): string {
-  const lines = ["line_id,x,y,depth_below_seabed_m"];
-  for (const [k, y] of [ORIGIN_Y - 200, ORIGIN_Y - 600, ORIGIN_Y - 1000].entries())
-    for (let x = ORIGIN_X + 100; x < ORIGIN_X + SIZE * CELL - 50; x += 100) lines.push(`L${k + 1},${x},${y},2`);
-  return lines.join("\n") + "\n";
-}
+const picksCsv = () => shelfPicksCsv();
 
-/** Two cores that reached the horizon (one found a land surface, one did not) and one refusal. */
-function coresCsv(): string {
-  return [
-    "core_id,x,y,horizon_reached,preserved_land_surface",
-    `VC-01,${ORIGIN_X + 500},${ORIGIN_Y - 400},yes,yes`,
-    `VC-02,${ORIGIN_X + 1800},${ORIGIN_Y - 800},yes,no`,
-    `VC-03,${ORIGIN_X + 1200},${ORIGIN_Y - 300},refused,unknown`,
-  ].join("\n") + "\n";
-}
+const coresCsv = shelfCoresCsv;
 
 const upload = (kind: string, content: string | Uint8Array, fileName: string, extra: Record<string, string> = {}) => uploadDataset(world, token, kind, content, fileName, extra);
 

@@ -27,3 +27,24 @@ export async function uploadDataset(world: World, token: string, kind: string, c
   expect(res.status, await res.clone().text()).toBe(201);
   return (await res.json()).dataset.id;
 }
+
+/** The y of the three east–west survey lines across the shelf's northern half (the south stays unassessed). */
+export const SHELF_LINE_YS = [SHELF.originY - 200, SHELF.originY - 600, SHELF.originY - 1000] as const;
+
+/** Horizon picks every 100 m along the survey lines, `depthM` (default 2 m) below the seabed. */
+export function shelfPicksCsv(depthM: (x: number) => number = () => 2): string {
+  const lines = ["line_id,x,y,depth_below_seabed_m"];
+  for (const [k, y] of SHELF_LINE_YS.entries())
+    for (let x = SHELF.originX + 100; x < SHELF.originX + SHELF.size * SHELF.cellM - 50; x += 100) lines.push(`L${k + 1},${x},${y},${depthM(x)}`);
+  return lines.join("\n") + "\n";
+}
+
+/** Two cores that reached the horizon (one found a land surface, one did not) and one refusal. */
+export function shelfCoresCsv(): string {
+  return [
+    "core_id,x,y,horizon_reached,preserved_land_surface",
+    `VC-01,${SHELF.originX + 500},${SHELF.originY - 400},yes,yes`,
+    `VC-02,${SHELF.originX + 1800},${SHELF.originY - 800},yes,no`,
+    `VC-03,${SHELF.originX + 1200},${SHELF.originY - 300},refused,unknown`,
+  ].join("\n") + "\n";
+}
