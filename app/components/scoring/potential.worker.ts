@@ -19,6 +19,8 @@ const cache = createScoringCache();
 const compareCache = createScoringCache();
 // evidence arrives anew with every message: keep one array while its content stays the same, so the
 // cached preservation result is reused
+// the comparison set's potential, kept while the set, the target and the evidence stay the same
+let compared: { key: string; potential: Float32Array } | null = null;
 let evidence: EvidencePoint[] = [];
 let evidenceJson = "[]";
 function stableEvidence(next: EvidencePoint[]): EvidencePoint[] {
@@ -45,6 +47,7 @@ self.onmessage = (ev: MessageEvent<ToWorker>) => {
   const msg = ev.data;
   if (msg.type === "layers") {
     for (const l of msg.layers) layers.set(l.key, { kind: "codes", codes: l.raster.codes, scale: l.raster.scale, offset: l.raster.offset, nodataCode: l.raster.nodataCode });
+    compared = null;
     return;
   }
   if (msg.type === "score") {
@@ -72,7 +75,10 @@ self.onmessage = (ev: MessageEvent<ToWorker>) => {
       let rgba: Uint8ClampedArray;
       let compare: Extract<FromWorker, { type: "scored" }>["compare"] = null;
       if (msg.compare) {
-        const other = scoreTarget(msg.compare.content, grid, msg.agesKa, msg.target, source, ev, compareCache);
+        // the other set does not change while this one is weighed: score it once per set, target and evidence
+        const key = JSON.stringify([msg.compare.content, msg.target, msg.agesKa]) + evidenceJson;
+        if (!compared || compared.key !== key) compared = { key, potential: scoreTarget(msg.compare.content, grid, msg.agesKa, msg.target, source, ev, compareCache).potential.slice() };
+        const other = compared;
         rgba = differenceRgba(r.potential, other.potential, grid.width, grid.height);
         let dsum = 0;
         let dn = 0;
