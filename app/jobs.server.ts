@@ -134,8 +134,11 @@ export function effectiveRunStatus<S extends string>(status: S | "running" | "fa
 
 /**
  * The guard every publication uses (decisions 009, 402): true only while `attempt` is still the
- * current attempt of job run `runId` — a retried or taken-over attempt publishes nothing.
+ * current attempt of job run `runId`, the run is running, and nobody has asked it to stop — a
+ * retried or taken-over attempt publishes nothing, and a cancel asked before the publication
+ * wins even when the engine had already finished. The run's row is locked (as `requestCancel`
+ * locks it), so a cancel and a publication are ordered: whichever commits first decides.
  */
-export function attemptOwnsRun(runId: string, attempt: number) {
-  return sql`exists (select 1 from ${jobRuns} where ${jobRuns.id} = ${runId} and ${jobRuns.attempt} = ${attempt})`;
+export function attemptMayPublish(runId: string, attempt: number) {
+  return sql`exists (select 1 from ${jobRuns} where ${jobRuns.id} = ${runId} and ${jobRuns.attempt} = ${attempt} and ${jobRuns.state} = 'running' and not ${jobRuns.cancelRequested} for share)`;
 }

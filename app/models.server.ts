@@ -16,7 +16,7 @@ import { datasets, jobRuns, models, reconstructions, siteRecords } from "./db/sc
 import { UserError } from "./errors";
 import { recordAudit } from "./audit.server";
 import { getJson, store } from "./storage.server";
-import { enqueueJob, jobRunStatus, effectiveRunStatus, attemptOwnsRun } from "./jobs.server";
+import { enqueueJob, jobRunStatus, effectiveRunStatus, attemptMayPublish } from "./jobs.server";
 import { FACTOR_IDS, factorDef, type FactorId } from "./scoring/factors";
 import { DEFAULT_FOREST_SETTINGS, trainingSet, type Evidence, type ExclusionReason } from "./scoring/forest";
 import type { ProjectClassification } from "./scoring/classification";
@@ -461,7 +461,7 @@ export async function publishModel(modelId: number, runId: string, attempt: numb
     const rows = await tx
       .update(models)
       .set({ status: "published", card, result, layerPrefix: prefix, publishedAt: new Date(), error: null })
-      .where(and(eq(models.id, modelId), eq(models.jobRunId, runId), eq(models.status, "running"), attemptOwnsRun(runId, attempt)))
+      .where(and(eq(models.id, modelId), eq(models.jobRunId, runId), eq(models.status, "running"), attemptMayPublish(runId, attempt)))
       .returning({ id: models.id, projectId: models.projectId });
     if (rows.length) await recordAudit(tx, { actorUserId: null, projectId: rows[0].projectId, action: "model.published", detail: { modelId, runId, attempt } });
     return rows.length > 0;

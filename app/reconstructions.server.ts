@@ -9,7 +9,7 @@ import { db } from "./db.server";
 import { datasets, jobRuns, reconstructions, seaLevelCurves } from "./db/schema";
 import { UserError } from "./errors";
 import { recordAudit } from "./audit.server";
-import { enqueueJob, effectiveRunStatus, attemptOwnsRun } from "./jobs.server";
+import { enqueueJob, effectiveRunStatus, attemptMayPublish } from "./jobs.server";
 import { ENGINE_VERSION, type Manifest } from "./terrain/reconstruct";
 import { defaultGlobalCurve } from "./terrain/sea-level";
 
@@ -161,7 +161,7 @@ export async function publishManifest(reconstructionId: number, runId: string, a
           eq(reconstructions.id, reconstructionId),
           eq(reconstructions.jobRunId, runId),
           eq(reconstructions.status, "running"),
-          attemptOwnsRun(runId, attempt),
+          attemptMayPublish(runId, attempt),
         ),
       )
       .returning({ id: reconstructions.id, projectId: reconstructions.projectId });

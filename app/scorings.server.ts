@@ -10,7 +10,7 @@ import { datasets, jobRuns, reconstructions, scorings, weightSets, weightSetVers
 import { UserError } from "./errors";
 import { recordAudit } from "./audit.server";
 import { store } from "./storage.server";
-import { enqueueJob, jobRunStatus, effectiveRunStatus, attemptOwnsRun } from "./jobs.server";
+import { enqueueJob, jobRunStatus, effectiveRunStatus, attemptMayPublish } from "./jobs.server";
 import { ScoringInputError } from "./scoring/errors";
 import { checkPeriodAgainstAges, type PeriodSetting, type WeightSetContent } from "./scoring/weight-set";
 import { weightSetContentSchema } from "./weight-set-schema";
@@ -232,7 +232,7 @@ export async function publishScoring(scoringId: number, runId: string, attempt: 
           eq(scorings.id, scoringId),
           eq(scorings.jobRunId, runId),
           eq(scorings.status, "running"),
-          attemptOwnsRun(runId, attempt),
+          attemptMayPublish(runId, attempt),
         ),
       )
       .returning({ id: scorings.id, projectId: scorings.projectId });

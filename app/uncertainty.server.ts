@@ -11,7 +11,7 @@ import { jobRuns, projects, reconstructions, uncertaintyRuns, weightSets, weight
 import { UserError } from "./errors";
 import { recordAudit } from "./audit.server";
 import { store } from "./storage.server";
-import { enqueueJob, jobRunStatus, effectiveRunStatus, attemptOwnsRun } from "./jobs.server";
+import { enqueueJob, jobRunStatus, effectiveRunStatus, attemptMayPublish } from "./jobs.server";
 import { resolveScoringRequest, targetLabel, type ScoringTarget } from "./scorings.server";
 import type { ProjectClassification } from "./scoring/classification";
 
@@ -223,7 +223,7 @@ export async function publishUncertainty(id: number, jobRunId: string, attempt: 
           eq(uncertaintyRuns.id, id),
           eq(uncertaintyRuns.jobRunId, jobRunId),
           eq(uncertaintyRuns.status, "running"),
-          attemptOwnsRun(jobRunId, attempt),
+          attemptMayPublish(jobRunId, attempt),
         ),
       )
       .returning({ id: uncertaintyRuns.id, projectId: uncertaintyRuns.projectId });

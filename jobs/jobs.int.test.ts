@@ -173,6 +173,22 @@ describe("a worker process", () => {
     expect(mail.subject).toMatch(/was cancelled$/);
   });
 
+  it("lets a cancel asked after the handler's last check win over its publication, which the guard refuses", async () => {
+    // Without a cancel, the same job publishes through the guard.
+    const plain = await sleepJob({ steps: 1, stepMs: 10, deafMs: 200, publish: true });
+    expect(await ended(plain)).toMatchObject({ state: "succeeded", result: { published: true } });
+
+    const id = await sleepJob({ steps: 1, stepMs: 10, deafMs: 3_000, publish: true });
+    await waitFor("the job to reach its last, deaf stretch", async () => {
+      const r = await run(id);
+      return r.state === "running" && r.step === "finishing";
+    });
+    expect(await requestCancel(id, starter)).toBe("requested");
+    const r = await ended(id);
+    expect(r).toMatchObject({ state: "cancelled", message: CANCELLED_MESSAGE, attempt: 1, result: null });
+    expect(await queueJob(id)).toMatchObject({ state: "cancelled", retryCount: 0 });
+  });
+
   it("retries a job whose worker was killed (SIGKILL) on another worker, once its heartbeat stops", async () => {
     const id = await sleepJob({ steps: 30, stepMs: 100 });
     await waitFor("the job to run on the first worker", async () => {

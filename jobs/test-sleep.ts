@@ -1,6 +1,9 @@
 // A job kind for the job runner's own tests only (registered when LOWSTAND_TEST_JOBS=1): it sleeps
 // in steps, reports progress, honours cancellation, and can be told to fail on bad input or crash.
 import { TerrainInputError } from "../app/terrain/grid";
+import { sql } from "drizzle-orm";
+import { db } from "../app/db.server";
+import { attemptMayPublish } from "../app/jobs.server";
 import { defineJob, JobUserError } from "./wrapper";
 
 export interface TestSleepPayload {
@@ -13,6 +16,12 @@ export interface TestSleepPayload {
   atStep?: number;
   /** Crash (a plain Error) before step `atStep` on these attempts. */
   crashOnAttempts?: number[];
+  /**
+   * After the steps, a last stretch of `deafMs` that does not look at the cancellation flag (as an
+   * engine's last layer does not), then a publication through the guard every real job uses.
+   */
+  deafMs?: number;
+  publish?: boolean;
 }
 
 function sleep(ms: number, signal: AbortSignal): Promise<void> {
@@ -29,7 +38,7 @@ function sleep(ms: number, signal: AbortSignal): Promise<void> {
 }
 
 export const testSleepJob = defineJob<TestSleepPayload>("test.sleep", async (ctx) => {
-  const { steps = 5, stepMs = 200, userError, message = "the test input is bad", atStep = 0, crashOnAttempts = [] } = ctx.payload;
+  const { steps = 5, stepMs = 200, userError, message = "the test input is bad", atStep = 0, crashOnAttempts = [], deafMs = 0, publish = false } = ctx.payload;
   ctx.progress(0, "sleeping", `attempt ${ctx.attempt}`);
   for (let i = 0; i < steps; i++) {
     if (i === atStep) {
@@ -43,5 +52,13 @@ export const testSleepJob = defineJob<TestSleepPayload>("test.sleep", async (ctx
     ctx.throwIfCancelled();
     ctx.progress((i + 1) / steps, `step ${i + 1} of ${steps}`);
   }
-  return { steps, attempt: ctx.attempt, pid: process.pid };
+  if (deafMs > 0) {
+    ctx.progress(1, "finishing");
+    await new Promise((resolve) => setTimeout(resolve, deafMs));
+  }
+  if (publish) {
+    const rows = await db().execute<{ ok: boolean }>(sql`select ${attemptMayPublish(ctx.runId, ctx.attempt)} as ok`);
+    if (!rows.rows[0]?.ok) throw new Error("the publication was refused");
+  }
+  return { steps, attempt: ctx.attempt, pid: process.pid, published: publish };
 });

@@ -44,6 +44,11 @@ export interface JobContext<P> {
    * (the run was taken from this attempt: nothing it does any more counts). Null while it may go on.
    */
   stopReason(): StopReason | null;
+  /**
+   * `stopReason()` after reading the run's row again now, rather than at the last poll: for a
+   * handler deciding how it ended (a publication refused because a cancel arrived a moment ago).
+   */
+  refreshStop(): Promise<StopReason | null>;
   /** Throws TerrainCancelled when `isCancelled()`. */
   throwIfCancelled(): void;
   /** Aborted when `isCancelled()` becomes true; for sleeps and fetches inside a handler. */
@@ -190,6 +195,19 @@ export async function runAttempt(def: JobDefinition<any>, job: QueueJob, setting
       }
     })();
   };
+  // Read the flags now (a handler's end, and the wrapper's own classification of an error).
+  const refreshFlags = async () => {
+    try {
+      const [row] = await db()
+        .select({ cancelRequested: jobRuns.cancelRequested, attempt: jobRuns.attempt, state: jobRuns.state })
+        .from(jobRuns)
+        .where(eq(jobRuns.id, runId));
+      if (!row || row.attempt !== attempt || row.state !== "running") live.lost = true;
+      else live.cancelRequested = row.cancelRequested;
+    } catch (err) {
+      log(job, runId, attempt, "reading the run's flags failed", err);
+    }
+  };
   const timer = setInterval(tick, settings.pollMs);
   // Stop a little before pg-boss would expire the attempt and retry it on top of this one.
   const expiryMs = Math.max(1_000, Number(job.expireInSeconds) * 1000 - Math.max(settings.pollMs * 2, 5_000));
@@ -198,6 +216,7 @@ export async function runAttempt(def: JobDefinition<any>, job: QueueJob, setting
     checkStop();
   }, expiryMs);
 
+  const stopReason = (): StopReason | null => (live.lost ? "lost" : live.cancelRequested ? "cancel" : live.expired ? "expired" : shutdown.aborted ? "shutdown" : null);
   const progress = (fraction: number, step?: string, message?: string) => {
     const f = Number.isFinite(fraction) ? Math.min(1, Math.max(0, fraction)) : live.fraction;
     if (f !== live.fraction || (step !== undefined && step !== live.step) || (message !== undefined && message !== live.message)) live.dirty = true;
@@ -215,7 +234,11 @@ export async function runAttempt(def: JobDefinition<any>, job: QueueJob, setting
     progress,
     control: { onProgress: (f, step) => progress(f, step), shouldCancel: isCancelled },
     isCancelled,
-    stopReason: () => (live.lost ? "lost" : live.cancelRequested ? "cancel" : live.expired ? "expired" : shutdown.aborted ? "shutdown" : null),
+    stopReason,
+    refreshStop: async () => {
+      await refreshFlags();
+      return stopReason();
+    },
     throwIfCancelled: () => {
       if (isCancelled()) throw new TerrainCancelled();
     },
@@ -227,9 +250,14 @@ export async function runAttempt(def: JobDefinition<any>, job: QueueJob, setting
     const result = await def.run(ctx);
     outcome = { type: "succeeded", result: result ?? null };
   } catch (err) {
+    // A cancel asked after the last poll still counts: a publication refused for it throws here.
+    if (!isUserError(err) && !live.lost && !live.cancelRequested) await refreshFlags();
     if (live.lost) outcome = { type: "lost" };
     else if (isUserError(err)) outcome = { type: "user_error", message: err.message };
-    else if (live.cancelRequested && (isCancellation(err) || stop.signal.aborted)) outcome = { type: "cancelled" };
+    else if (live.cancelRequested) {
+      if (!isCancellation(err) && !stop.signal.aborted) log(job, runId, attempt, "stopped on an error after a cancel was asked; it ends as cancelled", err);
+      outcome = { type: "cancelled" };
+    }
     else if (live.expired) outcome = { type: "crashed", error: err, note: "ran longer than its time limit" };
     else if (shutdown.aborted) outcome = { type: "crashed", error: err, note: "was interrupted because its worker shut down" };
     else outcome = { type: "crashed", error: err, note: "stopped on an error on our side" };
@@ -307,7 +335,10 @@ async function settle(job: QueueJob, runId: string, attempt: number, outcome: Ou
  * why this attempt ended — cancelled on request, or failed with the user's own error (our own
  * errors are retried by the wrapper and leave the row running). `mark` writes the row.
  */
-export async function markRowEnded(ctx: Pick<JobContext<unknown>, "stopReason">, err: unknown, mark: (status: "failed" | "cancelled", message: string) => Promise<void>): Promise<void> {
-  if (ctx.stopReason() === "cancel") await mark("cancelled", "Cancelled on request.");
-  else if (isUserError(err)) await mark("failed", err.message);
+export async function markRowEnded(ctx: Pick<JobContext<unknown>, "refreshStop">, err: unknown, mark: (status: "failed" | "cancelled", message: string) => Promise<void>): Promise<void> {
+  if (isUserError(err)) {
+    await mark("failed", err.message);
+    return;
+  }
+  if ((await ctx.refreshStop()) === "cancel") await mark("cancelled", "Cancelled on request.");
 }

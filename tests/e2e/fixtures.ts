@@ -19,6 +19,21 @@ export const test = base.extend({
 });
 export { expect };
 
+/**
+ * Runs `fn` with the job worker paused (SIGSTOP, then SIGCONT), as if it were busy elsewhere: runs
+ * started meanwhile wait in the queue. A real process signal, not a switch in the product.
+ */
+export async function withWorkerHeld<T>(fn: () => Promise<T>): Promise<T> {
+  const pid = Number(process.env.E2E_WORKER_PID);
+  if (!Number.isInteger(pid) || pid <= 0) throw new Error("E2E_WORKER_PID is not set: run the browser tests through `npm test`.");
+  process.kill(pid, "SIGSTOP");
+  try {
+    return await fn();
+  } finally {
+    process.kill(pid, "SIGCONT");
+  }
+}
+
 /** Waits until the demo's seeded reconstruction is published (it is queued at seed) and returns its id. */
 export async function demoReconstructionPublished(page: import("@playwright/test").Page): Promise<string> {
   await page.goto("/");

@@ -98,6 +98,7 @@ export default async function globalSetup() {
   await waitForHealth(baseUrl, child, () => output);
   process.env.E2E_BASE_URL = baseUrl;
   process.env.E2E_DATABASE_URL = databaseUrl;
+  process.env.E2E_WORKER_PID = String(worker.pid);
   await signInDemoRoles(baseUrl);
 
   return async () => {
