@@ -17,6 +17,7 @@ export const KIND_LABELS: Record<EvidenceKind, string> = {
   cores: "Cores and boreholes",
   lease_blocks: "Lease blocks",
   survey_area: "Survey area",
+  dredging_areas: "Dredging and other searched areas",
   ocean_boundary: "Open-ocean boundary",
   exclusions: "Exclusion features",
   development_footprint: "Development footprint",

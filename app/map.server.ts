@@ -16,7 +16,7 @@ import { apiError } from "./security.server";
 import type { Role } from "./permissions";
 import { curveFromRow, pointsOf } from "./sea-level-curves.server";
 
-const OVERLAY_KINDS = ["survey_area", "lease_blocks", "ocean_boundary", "survey_lines", "interpretations", "exclusions", "development_footprint", "cores"] as const;
+const OVERLAY_KINDS = ["survey_area", "dredging_areas", "lease_blocks", "ocean_boundary", "survey_lines", "interpretations", "exclusions", "development_footprint", "cores"] as const;
 
 type Feature = { type: "Feature"; geometry: { type: string; coordinates: unknown }; properties: Record<string, unknown> };
 

@@ -21,10 +21,13 @@ import { FACTOR_IDS, factorDef, type FactorId } from "./scoring/factors";
 import { DEFAULT_FOREST_SETTINGS, trainingSet, type Evidence, type ExclusionReason } from "./scoring/forest";
 import type { ProjectClassification } from "./scoring/classification";
 import { geometryVertices } from "./scoring/scoring-inputs";
+import { polygonsOfGeometries, type PolygonRings } from "./scoring/polygon-mask";
+import { targetResultEvidence } from "./target-results.server";
 import type { Manifest } from "./terrain/reconstruct";
 import { readGeoTiff } from "./terrain/geotiff-read";
 import { can, type Role } from "./permissions";
 import { ageWindowOf, projectClassification, validateRaster, type ValidationOptions, type ValidationSubject } from "./validations.server";
+import { hasArchaeologicalMaterial } from "./evidence/material";
 
 /**
  * Bump when the model job's output changes meaning for the same inputs (evidence rules, background,
@@ -33,7 +36,8 @@ import { ageWindowOf, projectClassification, validateRaster, type ValidationOpti
 export const MODEL_VERSION = "1";
 
 /** The evidence kinds the model reads besides the known sites: cores (presences, cored areas) and survey lines (corridors). */
-export const MODEL_EVIDENCE_KINDS = ["cores", "survey_lines"] as const;
+/** Dataset kinds the trained model reads: cores (presences and searched ground), and where searches happened. */
+export const MODEL_EVIDENCE_KINDS = ["cores", "survey_lines", "dredging_areas"] as const;
 
 /** Below this many presences no model is trained, whatever the request says (cross-validation would mean nothing). */
 export const MIN_SITES_FLOOR = 5;
@@ -153,7 +157,11 @@ const mid = (a: number | null | undefined, b: number | null | undefined): number
   return f !== null ? f / 1000 : t !== null ? t / 1000 : null;
 };
 
-/** The project's sites and cores as the model reads them, the survey lines' vertices, and a fingerprint of all of it. */
+/**
+ * The project's sites and cores as the model reads them — the cores of its datasets and the cores
+ * recorded as results on its published target lists (design §6: results flow into the next model)
+ * — the survey lines' vertices, the dredging areas' polygons, and a fingerprint of all of it.
+ */
 export async function modelEvidence(projectId: number) {
   const sites = await db().select().from(siteRecords).where(eq(siteRecords.projectId, projectId)).orderBy(asc(siteRecords.id));
   const records: EvidenceRecord[] = sites.map((s) => ({
@@ -173,6 +181,7 @@ export async function modelEvidence(projectId: number) {
     .where(and(eq(datasets.projectId, projectId), inArray(datasets.kind, [...MODEL_EVIDENCE_KINDS])))
     .orderBy(datasets.id);
   const lines: Array<Array<[number, number]>> = [];
+  const areas: PolygonRings[] = [];
   const corePositions: Array<[number, number]> = [];
   for (const d of ds) {
     if (d.kind === "cores") {
@@ -180,7 +189,6 @@ export async function modelEvidence(projectId: number) {
       rows.forEach((c, k) => {
         corePositions.push([c.x, c.y]);
         const dated = (c.dates ?? []).find((x) => Number.isFinite(x.calBpFrom) || Number.isFinite(x.calBpTo));
-        const ind = String(c.archaeologicalIndicators ?? "").trim();
         records.push({
           kind: "core",
           id: `core-${d.id}-${c.coreId ?? k + 1}`,
@@ -189,19 +197,29 @@ export async function modelEvidence(projectId: number) {
           context: "",
           precisionM: null,
           ageKa: dated ? mid(dated.calBpFrom, dated.calBpTo) : null,
-          archaeologicalMaterial: ind !== "" && !/^(none|no|nil|-)$/i.test(ind),
+          archaeologicalMaterial: hasArchaeologicalMaterial(c.archaeologicalIndicators),
           heldOut: false,
         });
       });
+    } else if (d.kind === "dredging_areas") {
+      const fc = await getJson<{ features: Array<{ geometry: { type?: string; coordinates?: unknown } | null }> }>(d.key);
+      areas.push(...polygonsOfGeometries((fc.features ?? []).map((f) => f.geometry)).polygons);
     } else {
       const fc = await getJson<{ features: Array<{ geometry: Parameters<typeof geometryVertices>[0] }> }>(d.key);
       for (const f of fc.features ?? []) lines.push(geometryVertices(f.geometry));
     }
   }
+  // Cores recorded on published target lists: searched ground either way, a presence when they found material.
+  const results = await targetResultEvidence(projectId);
+  for (const t of results) {
+    corePositions.push([t.x, t.y]);
+    const ageKa = t.youngKa !== null && t.oldKa !== null ? (t.youngKa + t.oldKa) / 2 : (t.youngKa ?? t.oldKa);
+    records.push({ kind: "core", id: t.key, x: t.x, y: t.y, context: "", precisionM: null, ageKa, archaeologicalMaterial: t.archaeologicalMaterial, heldOut: false });
+  }
   const fingerprint = createHash("sha256")
     .update(JSON.stringify({ records: records.map((r) => [r.kind, r.id, r.x, r.y, r.context, r.precisionM, r.ageKa, r.archaeologicalMaterial, r.heldOut]), datasets: ds.map((d) => `${d.kind}:${d.sha256}`) }))
     .digest("hex");
-  return { records, lines, corePositions, datasets: ds.map((d) => ({ id: d.id, kind: d.kind, name: d.name })), fingerprint };
+  return { records, lines, areas, corePositions, targetResults: results.length, datasets: ds.map((d) => ({ id: d.id, kind: d.kind, name: d.name })), fingerprint };
 }
 
 /** The reconstructed age nearest `ageKa`, or null when the nearest is further than the tolerance. */

@@ -21,7 +21,8 @@ import { resolveCrs } from "~/terrain/crs";
 import { defaultWeightSetContent } from "~/scoring/weight-set";
 import { METRES_PER_SECOND_PER_KNOT, nearestNeighbourOrder, routeLengthM } from "~/scoring/cruise-plan";
 import { createWeightSet } from "~/weight-sets.server";
-import { publishedHashOf } from "~/target-lists.server";
+import { publishedHashOf, resultSchema } from "~/target-lists.server";
+import { modelEvidence } from "~/models.server";
 import * as apiRecons from "~/routes/api.project-reconstructions";
 import * as apiScorings from "~/routes/api.project-scorings";
 import * as apiLists from "~/routes/api.project-target-lists";
@@ -382,6 +383,13 @@ describe("a target list", () => {
     // one more presence scored than before (Kvamme's gain and the AUC count it: validations.server.ts)
     const used = (v: { evidence: Array<{ used: boolean }> }) => v.evidence.filter((e) => e.used).length;
     expect(used(after)).toBe(used(before) + 1);
+
+    // … and into the next model: a presence at its position (searched ground too), dated by its result.
+    const ev = await modelEvidence(world.projectId);
+    const rec = ev.records.find((r) => r.id === key);
+    expect(rec).toMatchObject({ kind: "core", x: t.x, y: t.y, archaeologicalMaterial: true, ageKa: (12.15 + 11.9) / 2 });
+    expect(ev.corePositions).toContainEqual([t.x, t.y]);
+    expect(ev.targetResults).toBe(1);
   });
 
   it("keeps targets off a known site its community withheld, without naming it near any target", async () => {
@@ -407,6 +415,11 @@ describe("a target list", () => {
     for (const format of ["csv", "geojson", "gpkg"]) expect((await exportList(l.id, format)).status, format).toBe(200);
     const csv = await (await exportList(l.id, "csv")).text();
     expect(csv).toMatch(/slope unknown/);
+  });
+
+  it("stores indicators that say nothing was found as none", () => {
+    for (const said of ["none", " No ", "nil", "-", "n/a", ""]) expect(resultSchema.parse({ preservedLandSurface: "no", archaeologicalIndicators: said }).archaeologicalIndicators, said).toBeNull();
+    expect(resultSchema.parse({ preservedLandSurface: "yes", archaeologicalIndicators: " worked flint " }).archaeologicalIndicators).toBe("worked flint");
   });
 
   it("refuses status changes on a draft list", async () => {

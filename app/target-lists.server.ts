@@ -58,6 +58,7 @@ import { targetsToCsv } from "./exports/csv";
 import { targetsToGeoJson } from "./exports/geojson";
 import { targetsToGeoPackage } from "./exports/geopackage";
 import type { ExportMeta, ExportTarget } from "./exports/target-fields";
+import { indicatorsOrNull } from "./evidence/material";
 
 export const TARGET_LISTS_VERSION = "1";
 
@@ -839,7 +840,7 @@ export const resultSchema = z
   .object({
     preservedLandSurface: z.enum(["yes", "no", "unknown"], { error: 'preservedLandSurface is "yes", "no" or "unknown".' }),
     /** free text ("charcoal; burnt flint"); null = none found */
-    archaeologicalIndicators: z.string().trim().max(500).nullable(),
+    archaeologicalIndicators: z.string().trim().max(500).nullable().transform(indicatorsOrNull),
     dates: z.array(dateSchema).max(20).default([]),
     note: z.string().trim().max(2000).optional(),
   })

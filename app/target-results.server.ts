@@ -5,6 +5,7 @@
 import { and, asc, eq } from "drizzle-orm";
 import { db } from "./db.server";
 import { targetLists, targets } from "./db/schema";
+import { hasArchaeologicalMaterial } from "./evidence/material";
 
 /** Evidence as app/validations.server.ts EvidenceItem reads it (kept structural to avoid an import cycle). */
 export interface TargetResultEvidence {
@@ -54,8 +55,7 @@ export async function targetResultEvidence(projectId: number): Promise<TargetRes
           young = Math.min(young, v / 1000);
           old = Math.max(old, v / 1000);
         }
-    const ind = c.result?.archaeologicalIndicators;
-    const material = typeof ind === "string" && ind.trim() !== "";
+    const material = hasArchaeologicalMaterial(c.result?.archaeologicalIndicators);
     return {
       key: `target:${r.id}`,
       kind: "core",

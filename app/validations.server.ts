@@ -30,6 +30,7 @@ import { classAreas, classOf, fixedClassification, quantileClassification, type 
 import { bootstrapAuc, bootstrapGain, gainByClass, siteCaptureCurve, type Interval } from "./scoring/validation";
 import { sampleIndices } from "./scoring/background";
 import { polygonMask, polygonsOfGeometries } from "./scoring/polygon-mask";
+import { hasArchaeologicalMaterial } from "./evidence/material";
 
 /** Bump when a validation's meaning changes for the same inputs: stored results are then not reused. */
 export const VALIDATION_VERSION = "1";
@@ -387,7 +388,7 @@ async function projectEvidence(projectId: number) {
           old = Math.max(old, v / 1000);
         }
       }
-      const material = typeof c.archaeologicalIndicators === "string" && c.archaeologicalIndicators.trim() !== "";
+      const material = hasArchaeologicalMaterial(c.archaeologicalIndicators);
       items.push({
         key: `core:${d.id}:${String(c.coreId)}`,
         kind: "core",

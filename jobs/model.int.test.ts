@@ -269,6 +269,36 @@ describe("a trained model", () => {
   });
 });
 
+describe("searched ground", () => {
+  it("draws the background from dredging areas too: the card counts their cells", async () => {
+    const before = await postModel({ reconstructionId, ageKa: 12, factors: FACTORS, settings: SMALL });
+    expect(before.status).toBe(200); // the model above, reused
+    const cardBefore = JSON.parse((await getModelApi(before.body.model.id)).text).model.card;
+    expect(cardBefore.background.searchedGround.dredgingAreas).toBe(0);
+    // An invented dredging licence on cell edges: columns 10–19, rows 30–39 → 10 × 10 cell centres inside.
+    const [x0, x1, y0, y1] = [ORIGIN_X + 10 * CELL, ORIGIN_X + 20 * CELL, ORIGIN_Y - 40 * CELL, ORIGIN_Y - 30 * CELL];
+    const area = {
+      type: "FeatureCollection",
+      crs: { type: "name", properties: { name: "urn:ogc:def:crs:EPSG::32733" } },
+      features: [{ type: "Feature", properties: { name: "Licence C-2", method: "aggregate dredging" }, geometry: { type: "Polygon", coordinates: [[[x0, y0], [x1, y0], [x1, y1], [x0, y1], [x0, y0]]] } }],
+    };
+    await upload("dredging_areas", JSON.stringify(area), "corrie-dredging.geojson");
+    const started = await postModel({ reconstructionId, ageKa: 12, factors: FACTORS, settings: SMALL });
+    expect(started.status, JSON.stringify(started.body)).toBe(202); // new evidence: a new model
+    const id = started.body.model.id;
+    await waitFor(`model ${id} to publish`, async () => {
+      const [m] = await db().select().from(models).where(eq(models.id, id));
+      if (m.status === "failed") throw new Error(`model failed: ${m.error}`);
+      return m.status === "published" ? m : null;
+    }, 60_000);
+    const g = JSON.parse((await getModelApi(id)).text).model.card.background.searchedGround;
+    expect(g.dredgingAreas).toBe(1);
+    expect(g.dredgedAreaCells).toBe(100);
+    expect(g.cells).toBeGreaterThan(cardBefore.background.searchedGround.cells);
+    expect(g.cells).toBeLessThanOrEqual(cardBefore.background.searchedGround.cells + 100);
+  });
+});
+
 describe("refusals", () => {
   it("refuses too few sites before queueing, with the count and what was left out", async () => {
     const before = await modelCount();

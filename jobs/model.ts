@@ -171,10 +171,10 @@ export const modelJob = defineJob<ModelPayload>("model", async (ctx) => {
 
     // The target-group background: searched ground that was land at each presence's age.
     ctx.progress(0.35, "drawing the background");
-    const effort = searchEffortMask({ width: g.width, height: g.height, originX: g.originX, originY: g.originY, cellSizeX: g.cellSizeX, cellSizeY: g.cellSizeY }, { lines: ev.lines, corridorM: settings.surveyCorridorM, cores: ev.corePositions, radiusM: settings.coreRadiusM });
+    const effort = searchEffortMask({ width: g.width, height: g.height, originX: g.originX, originY: g.originY, cellSizeX: g.cellSizeX, cellSizeY: g.cellSizeY }, { lines: ev.lines, corridorM: settings.surveyCorridorM, cores: ev.corePositions, radiusM: settings.coreRadiusM, areas: ev.areas });
     if (effort.cells === 0)
       throw new JobUserError(
-        `No searched ground lies on the grid: the background is drawn from survey-line corridors (${settings.surveyCorridorM} m) and cored areas (${settings.coreRadiusM} m), and the project has ${ev.lines.length} survey line${ev.lines.length === 1 ? "" : "s"} and ${ev.corePositions.length} core${ev.corePositions.length === 1 ? "" : "s"} there. Upload survey lines or cores.`,
+        `No searched ground lies on the grid: the background is drawn from survey-line corridors (${settings.surveyCorridorM} m), cored areas (${settings.coreRadiusM} m) and dredging areas, and the project has ${ev.lines.length} survey line${ev.lines.length === 1 ? "" : "s"}, ${ev.corePositions.length} core${ev.corePositions.length === 1 ? "" : "s"} and ${ev.areas.length} dredging area${ev.areas.length === 1 ? "" : "s"} there. Upload survey lines, cores or dredging areas.`,
       );
     const perAge = new Map<number, number>();
     for (let i = 0; i < presenceOnly.presences; i++) perAge.set(presenceOnly.ageKa[i], (perAge.get(presenceOnly.ageKa[i]) ?? 0) + 1);
@@ -272,7 +272,7 @@ export const modelJob = defineJob<ModelPayload>("model", async (ctx) => {
         perPresence: settings.backgroundPerPresence,
         cap: settings.backgroundCells,
         drawn: draws.map((d) => ({ ageKa: d.ageKa, requested: d.requested, available: d.available, drawn: d.cells.length })),
-        searchedGround: { cells: effort.cells, areaKm2: effort.cells * cellAreaKm2, surveyLineCells: effort.lineCells, coredCells: effort.coreCells, surveyCorridorM: settings.surveyCorridorM, coreRadiusM: settings.coreRadiusM, surveyLines: ev.lines.length, cores: ev.corePositions.length },
+        searchedGround: { cells: effort.cells, areaKm2: effort.cells * cellAreaKm2, surveyLineCells: effort.lineCells, coredCells: effort.coreCells, surveyCorridorM: settings.surveyCorridorM, coreRadiusM: settings.coreRadiusM, surveyLines: ev.lines.length, cores: ev.corePositions.length, dredgedAreaCells: effort.areaCells, dredgingAreas: ev.areas.length, targetResults: ev.targetResults },
         rule: "Survey-line corridors and cored areas; dredging areas are not recorded as an evidence kind yet. Only cells that were land or intertidal at each presence's age.",
       },
       crossValidation: { k: settings.folds, blockSizeM: settings.blockSizeM, blocks: cv.assignment.blocks, blocksWithPresences: cv.assignment.blocksWithPresences, presencesPerFold: cv.assignment.presences, backgroundPerFold: cv.assignment.background },

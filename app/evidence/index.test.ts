@@ -21,6 +21,10 @@ const samples: Record<EvidenceKind, { bytes: () => Uint8Array; opts?: Partial<Pa
   cores: { bytes: () => evidenceFixture("cores.ags"), opts: { declaredEpsg: PROJECT_EPSG } },
   lease_blocks: { bytes: () => evidenceFixture("blocks.gpkg") },
   survey_area: { bytes: () => evidenceFixture("blocks-shp.zip") },
+  dredging_areas: {
+    bytes: () =>
+      utf8(JSON.stringify({ type: "FeatureCollection", features: [{ type: "Feature", geometry: { type: "Polygon", coordinates: [[[2.95, -30.05], [2.96, -30.05], [2.96, -30.04], [2.95, -30.05]]] }, properties: { licence: "Area 7 (invented)", method: "aggregate dredging", years: "1998–2011" } }] })),
+  },
   ocean_boundary: { bytes: () => line({ name: "shelf edge" }) },
   exclusions: { bytes: () => point({ kind: "anchor", buffer_m: 150 }) },
   development_footprint: { bytes: () => evidenceFixture("turbines.geojson") },
@@ -46,5 +50,13 @@ describe("parseEvidence — every kind is read back", () => {
 
   it("refuses a project CRS that is not a projected CRS in metres", async () => {
     await expect(parseEvidence("tidal_range", utf8("2\n"), { fileName: "x", projectEpsg: 4326 })).rejects.toThrow(/EPSG:4326 is a geographic CRS/);
+  });
+});
+
+describe("dredging areas", () => {
+  it("keeps the name, method and years, and refuses a line where an area is needed", async () => {
+    const res = await parseEvidence("dredging_areas", samples.dredging_areas.bytes(), { fileName: "areas.geojson", projectEpsg: PROJECT_EPSG });
+    expect(res.features?.features[0].properties).toMatchObject({ name: "Area 7 (invented)", method: "aggregate dredging", years: "1998–2011" });
+    await expect(parseEvidence("dredging_areas", line({ name: "not an area" }), { fileName: "areas.geojson", projectEpsg: PROJECT_EPSG })).rejects.toThrow(/LineString/);
   });
 });

@@ -31,6 +31,7 @@ import { WGS84, checkPositions, extentOf, makeTransformer, projectCrs, sourceFro
 import { checkVertical } from "./grids";
 import { decodeText } from "./text";
 import { EvidenceError, type EvidenceFormat, type EvidenceKind, type EvidenceLimits, type ParseOptions, type ParsedEvidence } from "./types";
+import { indicatorsOrNull } from "./material";
 
 /** Positions of every record, in the project CRS (NaN where the row's own numbers were bad). */
 export interface Positions {
@@ -446,7 +447,7 @@ function coresCsv(table: CsvTable, opts: ParseOptions, project: Crs, warnings: s
         recoveryM,
         horizonReached: horizonReached ?? "unknown",
         preservedLandSurface: preserved ?? "unknown",
-        archaeologicalIndicators: indicators && !/^(none|no|nil|-)$/i.test(indicators) ? indicators : null,
+        archaeologicalIndicators: indicatorsOrNull(indicators),
         units: [],
         dates: [],
         sourceRow: rr.row,

@@ -185,6 +185,7 @@ export function readGeoJson(text: string, limits: EvidenceLimits): VectorSource 
 const KIND_GEOMETRIES: Partial<Record<EvidenceKind, string[]>> = {
   lease_blocks: ["Polygon", "MultiPolygon"],
   survey_area: ["Polygon", "MultiPolygon"],
+  dredging_areas: ["Polygon", "MultiPolygon"],
   ocean_boundary: ["LineString", "MultiLineString", "Polygon", "MultiPolygon"],
   exclusions: GEOMETRY_TYPES,
   development_footprint: GEOMETRY_TYPES,
@@ -209,6 +210,11 @@ export const INTERPRETATION_KINDS = words(
 const ATTRIBUTE_COLUMNS: Partial<Record<EvidenceKind, ColumnSpec[]>> = {
   lease_blocks: [{ key: "name", names: ["name", "block_id", "block", "id", "lease_id"] }],
   survey_area: [{ key: "name", names: ["name", "id", "area"] }],
+  dredging_areas: [
+    { key: "name", names: ["name", "id", "area", "licence", "license", "area_id"] },
+    { key: "method", names: ["method", "activity", "kind", "type"] },
+    { key: "years", names: ["years", "period", "worked"] },
+  ],
   ocean_boundary: [{ key: "name", names: ["name", "id"] }],
   exclusions: [
     { key: "kind", names: ["kind", "type", "feature_type"], required: true },
@@ -405,7 +411,11 @@ export async function parseVectorEvidence(kind: EvidenceKind, format: EvidenceFo
     src.features.forEach((f, k) => {
       rr.at(k);
       const p: Record<string, unknown> = {};
-      if (kind === "lease_blocks" || kind === "survey_area" || kind === "ocean_boundary") p.name = rr.str("name") || `${kind === "lease_blocks" ? "block" : what} ${f.index}`;
+      if (kind === "lease_blocks" || kind === "survey_area" || kind === "ocean_boundary" || kind === "dredging_areas") p.name = rr.str("name") || `${kind === "lease_blocks" ? "block" : kind === "dredging_areas" ? "area" : what} ${f.index}`;
+      if (kind === "dredging_areas") {
+        p.method = rr.str("method") || null;
+        p.years = rr.str("years") || null;
+      }
       if (kind === "exclusions") {
         p.kind = rr.word("kind", EXCLUSION_KINDS, null, true);
         p.bufferM = rr.num("bufferM", { required: true, min: 0 });

@@ -39,4 +39,24 @@ describe("searchEffortMask", () => {
     expect(e.cells).toBe(0);
     expect(() => searchEffortMask(grid, { lines: [], corridorM: -1, cores: [], radiusM: 0 })).toThrow(ScoringInputError);
   });
+
+  it("marks the cells whose centres lie inside a dredging area, holes left out, and counts each cell once", () => {
+    // A square from x 1100–1200, y 1800–1900: centres 1105…1195 × 1895…1805 → 10 × 10 = 100 cells;
+    // a hole 1140–1160 × 1840–1860 holds centres 1145, 1155 × 1855, 1845 → 4 cells out. 96 inside.
+    // (Geometry of the cell centres, worked by hand.)
+    const square = [[1100, 1800], [1200, 1800], [1200, 1900], [1100, 1900], [1100, 1800]];
+    const hole = [[1140, 1840], [1160, 1840], [1160, 1860], [1140, 1860], [1140, 1840]];
+    const e = searchEffortMask(grid, { lines: [], corridorM: 0, cores: [], radiusM: 0, areas: [[square, hole]] });
+    expect(e.areaCells).toBe(96);
+    expect(e.cells).toBe(96);
+    expect(e.mask[(2000 - 1895 - 5) / 10 * 20 + (1105 - 1005) / 10]).toBe(1); // row 10, column 10: inside
+    expect(e.mask[14 * 20 + 14]).toBe(0); // centre (1145, 1855): in the hole
+    // A core inside the area adds nothing new to the mask, though both sources count it.
+    const both = searchEffortMask(grid, { lines: [], corridorM: 0, cores: [[1105, 1895]], radiusM: 0, areas: [[square, hole]] });
+    expect(both.coreCells).toBe(1);
+    expect(both.areaCells).toBe(96);
+    expect(both.cells).toBe(96);
+    // An area wholly off the grid marks nothing.
+    expect(searchEffortMask(grid, { lines: [], corridorM: 0, cores: [], radiusM: 0, areas: [[[[0, 0], [50, 0], [50, 50], [0, 0]]]] }).cells).toBe(0);
+  });
 });

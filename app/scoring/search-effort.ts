@@ -6,6 +6,7 @@
  * the rasterising of buffers by cell centre is common practice, no source.
  */
 import { ScoringInputError } from "./errors.ts";
+import { polygonMask, type PolygonRings } from "./polygon-mask.ts";
 
 export interface EffortGrid {
   width: number;
@@ -23,6 +24,8 @@ export interface SearchEffort {
   /** cells marked by each source (a cell in both counts in both) */
   lineCells: number;
   coreCells: number;
+  /** cells whose centre lies inside a dredging (or other searched) area */
+  areaCells: number;
   /** cells marked in all */
   cells: number;
 }
@@ -32,7 +35,8 @@ export interface SearchEffort {
  * centre is common practice, no source.
  *
  * Marks every cell whose centre lies within `corridorM` of a survey line (polylines, vertices in the
- * project CRS) or within `radiusM` of a core position. Row r, column c has its centre at
+ * project CRS), within `radiusM` of a core position, or inside one of `areas` (polygons where
+ * material was searched or recovered, e.g. dredging areas; by cell centre, see polygonMask). Row r, column c has its centre at
  * (originX + (c + ½)·cellSizeX, originY − (r + ½)·cellSizeY). Lines and cores wholly outside the grid
  * mark nothing; non-finite vertices are skipped (they break a line in two).
  * Preconditions: positive grid sizes; corridor and radius finite and ≥ 0 — else
@@ -41,7 +45,7 @@ export interface SearchEffort {
  */
 export function searchEffortMask(
   grid: EffortGrid,
-  input: { lines: readonly (readonly (readonly [number, number])[])[]; corridorM: number; cores: readonly (readonly [number, number])[]; radiusM: number },
+  input: { lines: readonly (readonly (readonly [number, number])[])[]; corridorM: number; cores: readonly (readonly [number, number])[]; radiusM: number; areas?: readonly PolygonRings[] },
 ): SearchEffort {
   const { width, height, originX, originY, cellSizeX, cellSizeY } = grid;
   if (!(width >= 1 && height >= 1 && cellSizeX > 0 && cellSizeY > 0)) throw new ScoringInputError("The grid for the search-effort mask must have a positive size and cell size.");
@@ -93,6 +97,15 @@ export function searchEffortMask(
     }
   }
   for (const p of input.cores) if (Number.isFinite(p[0]) && Number.isFinite(p[1])) coreCells += markSegment(p[0], p[1], p[0], p[1], input.radiusM, 2);
+  let areaCells = 0;
+  if (input.areas && input.areas.length > 0) {
+    const inside = polygonMask(grid, input.areas);
+    for (let i = 0; i < inside.length; i++)
+      if (inside[i]) {
+        mask[i] |= 4;
+        areaCells++;
+      }
+  }
   let cells = 0;
   for (let i = 0; i < mask.length; i++) {
     if (mask[i] !== 0) {
@@ -100,5 +113,5 @@ export function searchEffortMask(
       cells++;
     }
   }
-  return { mask, lineCells, coreCells, cells };
+  return { mask, lineCells, coreCells, areaCells, cells };
 }

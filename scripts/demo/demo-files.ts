@@ -102,6 +102,15 @@ export function demoFiles(): DemoFile[] {
       bytes: fc([{ type: "Feature", properties: { name: "Velmar 2025 survey area" }, geometry: { type: "Polygon", coordinates: [ring(x0 + 300, y0 + 300, x1 - 300, y1 - 300)] } }]),
     },
     {
+      // An invented aggregate licence worked before the survey: finds reported from its cargoes are
+      // dredged (never scored), but it is searched ground for the trained model's background.
+      kind: "dredging_areas",
+      name: "Velmar aggregate area VA-4",
+      fileName: "velmar-dredging-va4.geojson",
+      addedLater: true,
+      bytes: fc([{ type: "Feature", properties: { name: "Area VA-4", method: "aggregate dredging", years: "1998–2014" }, geometry: { type: "Polygon", coordinates: [ring(482_400, 5_026_200, 485_600, 5_028_400)] } }]),
+    },
+    {
       kind: "lease_blocks",
       name: "Offshore lease blocks",
       fileName: "velmar-lease-blocks.geojson",

@@ -52,6 +52,7 @@ const OVERLAY_STYLE: Record<string, { line: Rgba; fill: Rgba; width: number; gly
   cores: { line: SAND_50, fill: [0, 0, 0, 0], width: 1, glyph: "◆", labelled: true },
   lease_blocks: { line: [214, 200, 171, 255], fill: [0, 0, 0, 0], width: 1.5, glyph: "■", labelled: true },
   survey_area: { line: [188, 169, 134, 255], fill: [0, 0, 0, 0], width: 1, glyph: "■", labelled: false },
+  dredging_areas: { line: [143, 135, 124, 255], fill: [143, 135, 124, 45], width: 1.2, glyph: "▦", labelled: true },
   exclusions: { line: [179, 38, 30, 255], fill: [179, 38, 30, 50], width: 1.5, glyph: "✕", labelled: true },
   development_footprint: { line: [232, 223, 204, 255], fill: [232, 223, 204, 40], width: 1.5, glyph: "■", labelled: false },
   ocean_boundary: { line: [127, 157, 180, 255], fill: [0, 0, 0, 0], width: 1, glyph: "·", labelled: false },

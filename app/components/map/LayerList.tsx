@@ -27,6 +27,7 @@ const LINE_SWATCH: Record<string, string> = {
   cores: "#fbf8f2",
   lease_blocks: "#d6c8ab",
   survey_area: "#bca986",
+  dredging_areas: "#8f877c",
   exclusions: "#b3261e",
   development_footprint: "#e8dfcc",
   ocean_boundary: "#7f9db4",

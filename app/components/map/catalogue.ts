@@ -64,6 +64,7 @@ const OVERLAY_GROUPS: Record<string, string> = {
   horizon_picks: "Evidence",
   lease_blocks: "Planning",
   survey_area: "Planning",
+  dredging_areas: "Evidence",
   exclusions: "Planning",
   development_footprint: "Planning",
   ocean_boundary: "Planning",

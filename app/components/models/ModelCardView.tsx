@@ -30,7 +30,7 @@ export interface CardJson {
   undated?: number;
   outsideAges?: number;
   ages?: { model: number; chosen: boolean; presencesPerAge: { ageKa: number; presences: number }[] };
-  background?: { requested: number; drawn: { ageKa: number; requested: number; available: number; drawn: number }[]; searchedGround: { cells: number; areaKm2: number; surveyLines: number; cores: number; surveyCorridorM: number; coreRadiusM: number }; rule: string };
+  background?: { requested: number; drawn: { ageKa: number; requested: number; available: number; drawn: number }[]; searchedGround: { cells: number; areaKm2: number; surveyLines: number; cores: number; surveyCorridorM: number; coreRadiusM: number; dredgingAreas?: number; dredgedAreaCells?: number; targetResults?: number }; rule: string };
   crossValidation?: { k: number; blockSizeM: number; blocks: number; blocksWithPresences: number };
   dataNotes?: string[];
 }
@@ -126,8 +126,7 @@ export function ModelCardView({ card }: { card: CardJson }) {
         ) : null}
         {card.background ? (
           <p className="mt-1 text-xs">
-            Searched ground: {card.background.searchedGround.areaKm2.toFixed(1)} km² from {card.background.searchedGround.surveyLines} survey lines (corridor{" "}
-            {card.background.searchedGround.surveyCorridorM} m) and {card.background.searchedGround.cores} cores (radius {card.background.searchedGround.coreRadiusM} m). {card.background.rule}
+            Searched ground: {searchedGroundText(card.background.searchedGround)} {card.background.rule}
           </p>
         ) : null}
         <p className="mt-2">Factors: {card.inputs.map((f) => factorDef(f)?.label ?? f).join(", ")}.</p>
@@ -165,4 +164,14 @@ export function ModelCardView({ card }: { card: CardJson }) {
       </ul>
     </div>
   );
+}
+
+/** Where the background came from, in words: survey-line corridors, cored discs and dredging areas. */
+function searchedGroundText(g: NonNullable<CardJson["background"]>["searchedGround"]): string {
+  const parts = [`${g.surveyLines} survey line${g.surveyLines === 1 ? "" : "s"} (corridor ${g.surveyCorridorM} m)`];
+  const results = g.targetResults ? `, ${g.targetResults} of them recorded on target lists` : "";
+  parts.push(`${g.cores} core${g.cores === 1 ? "" : "s"}${results} (radius ${g.coreRadiusM} m)`);
+  if (g.dredgingAreas) parts.push(`${g.dredgingAreas} dredging or other searched area${g.dredgingAreas === 1 ? "" : "s"}`);
+  const last = parts.pop()!;
+  return `${g.areaKm2.toFixed(1)} km² from ${parts.length ? `${parts.join(", ")} and ${last}` : last}.`;
 }
