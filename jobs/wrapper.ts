@@ -159,6 +159,15 @@ export async function runAttempt(def: JobDefinition<any>, job: QueueJob, setting
   const onShutdown = () => checkStop();
   shutdown.addEventListener("abort", onShutdown);
 
+  /** Whether this attempt still owns the run, and whether its user asked it to stop. */
+  const readFlags = async () => {
+    const [row] = await db()
+      .select({ cancelRequested: jobRuns.cancelRequested, attempt: jobRuns.attempt, state: jobRuns.state })
+      .from(jobRuns)
+      .where(eq(jobRuns.id, runId));
+    if (!row || row.attempt !== attempt || row.state !== "running") live.lost = true;
+    else live.cancelRequested = row.cancelRequested;
+  };
   let inFlight: Promise<void> | null = null;
   const tick = () => {
     if (inFlight) return;
@@ -176,14 +185,7 @@ export async function runAttempt(def: JobDefinition<any>, job: QueueJob, setting
           live.lastBeat = Date.now();
           if (rows.length === 0) live.lost = true;
           else live.cancelRequested = rows[0].cancelRequested;
-        } else {
-          const [row] = await db()
-            .select({ cancelRequested: jobRuns.cancelRequested, attempt: jobRuns.attempt, state: jobRuns.state })
-            .from(jobRuns)
-            .where(eq(jobRuns.id, runId));
-          if (!row || row.attempt !== attempt || row.state !== "running") live.lost = true;
-          else live.cancelRequested = row.cancelRequested;
-        }
+        } else await readFlags();
         if (live.lost && !stop.signal.aborted) log(job, runId, attempt, "the run was taken from this attempt (reaped, deleted or ended elsewhere); stopping");
         checkStop();
       } catch (err) {
@@ -198,12 +200,7 @@ export async function runAttempt(def: JobDefinition<any>, job: QueueJob, setting
   // Read the flags now (a handler's end, and the wrapper's own classification of an error).
   const refreshFlags = async () => {
     try {
-      const [row] = await db()
-        .select({ cancelRequested: jobRuns.cancelRequested, attempt: jobRuns.attempt, state: jobRuns.state })
-        .from(jobRuns)
-        .where(eq(jobRuns.id, runId));
-      if (!row || row.attempt !== attempt || row.state !== "running") live.lost = true;
-      else live.cancelRequested = row.cancelRequested;
+      await readFlags();
     } catch (err) {
       log(job, runId, attempt, "reading the run's flags failed", err);
     }
