@@ -407,6 +407,20 @@ describe("a target list", () => {
     }
   });
 
+  it("keeps targets out of every cell a cable without a buffer passes through", async () => {
+    const best = list.targets.find((t) => t.mode === "best-first")!;
+    // An invented cable straight through the best target's cell centre, with no buffer of its own.
+    const cable = { type: "FeatureCollection", features: [{ type: "Feature", properties: { kind: "cable", buffer_m: 0, name: "Test cable" }, geometry: { type: "LineString", coordinates: [toLonLat(ORIGIN_X, best.y), toLonLat(ORIGIN_X + SIZE * CELL, best.y)] } }] };
+    await upload("exclusions", new TextEncoder().encode(JSON.stringify(cable)), "tl-cable.geojson");
+    const r = await postList(mixedRequest({ name: "Beside the cable", cruise: null, modes: [{ kind: "best-first", count: 12 }] }));
+    expect(r.status, JSON.stringify(r.body)).toBe(201);
+    const g = await getList(r.body.targetList.id);
+    expect(g.body.targets.length).toBeGreaterThan(0);
+    // The cable crosses the row of cells whose centres lie within half a cell of it (a horizontal line
+    // through a row of centres, after reprojection's sub-millimetre round trip): no target there.
+    for (const t of g.body.targets as T[]) expect(Math.abs(t.y - best.y), t.waypoint).toBeGreaterThan(CELL / 2);
+  });
+
   it("exports a stored target whose factor scores were NaN (kept as null in JSON) as unknown, not as a failure", async () => {
     const [l] = await db().insert(targetLists).values({ projectId: world.projectId, name: "Gaps", source: { kind: "scoring", id: scoringId }, params: { crs: { epsg: EPSG, label: `EPSG:${EPSG}` }, reconstruction: { id: 0 }, source: { kind: "scoring", id: scoringId, label: "hand-made" } }, status: "published", publishedHash: "x", publishedAt: new Date() }).returning();
     const [x, y] = [ORIGIN_X + 125, ORIGIN_Y - 125];

@@ -230,6 +230,7 @@ async function exclusionInputs(projectId: number, grid: PlacedGrid) {
   const all = await exclusionZones(projectId, { viewer: { userId: 0, role: "owner" } });
   const shown = await exclusionZones(projectId, { viewer: { userId: 0, role: "analyst" }, buffers: all.buffersM });
   const polys: Geometry[] = all.features.map((z) => z.geometry as Geometry);
+  const halfDiagonalM = Math.hypot(grid.cellSizeX, grid.cellSizeY) / 2;
   const withheld = await db().select().from(siteRecords).where(and(eq(siteRecords.projectId, projectId), eq(siteRecords.visibility, "withheld")));
   for (const r of withheld) {
     const z = exclusionZone({ kind: "find_spot", source: "known sites", label: "", geometry: { type: "Point", coordinates: [r.x, r.y] }, positionUncertaintyM: r.precisionM ?? 0 }, all.buffersM);
@@ -248,7 +249,11 @@ async function exclusionInputs(projectId: number, grid: PlacedGrid) {
     const bufferM = Number.isFinite(buf) && buf > 0 ? buf : 0;
     const g = f.feature.geometry;
     const isArea = g.type === "Polygon" || g.type === "MultiPolygon";
-    if (bufferM > 0 || isArea) polys.push((bufferM > 0 ? planarBuffer(g, bufferM) : g) as Geometry);
+    // Cells count by their centres, so a point or a line (a cable with no buffer) is widened to at
+    // least half a cell's diagonal: every cell it passes through is refused, never stepped over.
+    const reachM = isArea ? bufferM : Math.max(bufferM, halfDiagonalM);
+    if (reachM > 0) polys.push(planarBuffer(g, reachM) as Geometry);
+    else polys.push(g as Geometry);
     nearby.push({ name: String(f.feature.properties.name ?? `${kind} ${f.index + 1}`), kind, bufferM, parts: partsOf(g) });
   }
   const mask = polys.length ? polygonMask(grid, polygonsOfGeometries(polys).polygons) : null;
