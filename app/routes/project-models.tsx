@@ -147,6 +147,7 @@ export default function ProjectModels({ loaderData }: Route.ComponentProps) {
                 ["backgroundCells", "Background cells (at most)", defaults.backgroundCells, "Drawn from searched ground that was land at each site's age."],
                 ["backgroundPerPresence", "Background per presence", defaults.backgroundPerPresence, "The background is kept near this many cells per presence (at least 100): forests do better on a down-sampled background."],
                 ["surveyCorridorM", "Survey-line corridor (m)", defaults.surveyCorridorM, "Ground either side of a line counted as searched."],
+                ["coreRadiusM", "Cored-area radius (m)", defaults.coreRadiusM, "Ground around each core counted as searched; dredging areas count whole."],
               ] as const
             ).map(([name, label, def, hint]) => (
               <label key={name} className="text-sm">

@@ -1,7 +1,6 @@
 import { requireProjectAccess } from "~/permissions.server";
-import { can } from "~/permissions";
 import { memberCount } from "~/projects.server";
-import { listDatasets } from "~/datasets.server";
+import { projectStanding, type Stage } from "~/overview.server";
 import { Link } from "react-router";
 import { Cautions } from "~/components/Cautions";
 import type { Route } from "./+types/project-overview";
@@ -11,16 +10,15 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   return {
     project: { name: project.name, summary: project.summary, crsEpsg: project.crsEpsg, isDemo: project.isDemo, createdAt: project.createdAt.toISOString() },
     members: await memberCount(project.id),
-    datasets: (await listDatasets(project.id)).length,
+    stages: await projectStanding(project.id, role),
     projectId: project.id,
-    mayUpload: can(role, "data.upload"),
   };
 }
 
 export const meta = ({ data }: Route.MetaArgs) => [{ title: `${data?.project.name ?? "Project"} · Lowstand` }];
 
 export default function ProjectOverview({ loaderData }: Route.ComponentProps) {
-  const { project, members, mayUpload, datasets, projectId } = loaderData;
+  const { project, members, stages, projectId } = loaderData;
   return (
     <div className="max-w-3xl space-y-6">
       <header>
@@ -36,21 +34,57 @@ export default function ProjectOverview({ loaderData }: Route.ComponentProps) {
         <dt className="text-sediment-600">Created</dt>
         <dd className="tabular-nums sm:col-span-2">{project.createdAt.slice(0, 10)}</dd>
       </dl>
-      <section className="rounded-md border border-dashed border-sand-400 bg-white p-4">
-        <h2 className="font-semibold">
-          <Link to={`/projects/${projectId}/data`} className="underline">
-            Data
-          </Link>
-        </h2>
-        <p className="mt-1 text-sm text-sediment-600">
-          {datasets > 0
-            ? `${datasets} dataset${datasets === 1 ? "" : "s"} of evidence.`
-            : mayUpload
-              ? "No datasets yet. Upload a bathymetry grid to begin; sub-bottom picks, survey lines and known sites follow."
-              : "No datasets yet. An analyst or lead of this project uploads the bathymetry grid to begin."}
-        </p>
-      </section>
+      <Standing stages={stages} projectId={projectId} />
       <Cautions compact />
     </div>
+  );
+}
+
+const STATE_MARK: Record<Stage["state"], { glyph: string; words: string; tone: string }> = {
+  ready: { glyph: "●", words: "in hand", tone: "border-sediment-600 text-sediment-800" },
+  working: { glyph: "◐", words: "under way", tone: "border-deep-500 text-deep-800" },
+  "to-do": { glyph: "○", words: "not yet", tone: "border-sand-500 text-sand-700" },
+};
+
+/** The stages of the work in order, each with its state (glyph and words, never colour alone) and the next step. */
+function Standing({ stages, projectId }: { stages: Stage[]; projectId: number }) {
+  const firstToDo = stages.find((s) => s.state === "to-do" && s.next);
+  return (
+    <section aria-labelledby="standing" className="space-y-2">
+      <h2 id="standing" className="font-semibold">
+        Where the project stands
+      </h2>
+      {firstToDo ? (
+        <p className="rounded-sm border-l-4 border-ember-500 bg-white px-3 py-2 text-sm" data-testid="next-step">
+          <span className="font-medium">Next: </span>
+          {firstToDo.next}{" "}
+          <Link to={`/projects/${projectId}/${firstToDo.path}`} className="underline">
+            Go to {firstToDo.title.toLowerCase()}
+          </Link>
+        </p>
+      ) : null}
+      <ol className="divide-y divide-sand-200 rounded-md border border-sand-200 bg-white">
+        {stages.map((s, i) => {
+          const mark = STATE_MARK[s.state];
+          return (
+            <li key={s.key} className="flex items-start gap-3 px-4 py-2.5" data-stage={s.key} data-state={s.state}>
+              <span className="w-5 pt-0.5 text-right text-xs tabular-nums text-sediment-600">{i + 1}</span>
+              <div className="min-w-0 flex-1">
+                <div className="flex items-baseline gap-2">
+                  <Link to={`/projects/${projectId}/${s.path}`} className="font-medium underline decoration-sand-400 underline-offset-2 hover:decoration-sediment-800">
+                    {s.title}
+                  </Link>
+                  <span className={`inline-flex items-center gap-1 rounded-sm border px-1.5 py-0.5 text-xs ${mark.tone}`}>
+                    <span aria-hidden="true">{mark.glyph}</span>
+                    {mark.words}
+                  </span>
+                </div>
+                <p className="text-sm text-sediment-700">{s.summary}</p>
+              </div>
+            </li>
+          );
+        })}
+      </ol>
+    </section>
   );
 }
