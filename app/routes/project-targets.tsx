@@ -127,7 +127,7 @@ export default function ProjectTargets({ loaderData }: Route.ComponentProps) {
       <p className="max-w-3xl text-sm text-sediment-700">
         Where to core, from a published scoring: cells a corer and a vessel can really reach, chosen best first with a minimum spacing, in transects across a mapped feature, as
         control cores in low classes (so the programme can learn it was wrong) and where the horizon or the model is least certain; ordered into a cruise plan from a port. A lead
-        publishes the list; each target is then tracked through coring to its result, and results flow into validation.
+        publishes the list; each target is then tracked through coring to its result, and results flow into validation and the next trained model.
       </p>
       <Cautions compact />
       {lists.length === 0 ? (

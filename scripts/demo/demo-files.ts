@@ -108,7 +108,7 @@ export function demoFiles(): DemoFile[] {
       name: "Velmar aggregate area VA-4",
       fileName: "velmar-dredging-va4.geojson",
       addedLater: true,
-      bytes: fc([{ type: "Feature", properties: { name: "Area VA-4", method: "aggregate dredging", years: "1998–2014" }, geometry: { type: "Polygon", coordinates: [ring(482_400, 5_026_200, 485_600, 5_028_400)] } }]),
+      bytes: fc([{ type: "Feature", properties: { name: "Area VA-4", method: "aggregate dredging", years: "1998–2014" }, geometry: { type: "Polygon", coordinates: [ring(480_600, 5_017_500, 483_600, 5_018_500)] } }]),
     },
     {
       kind: "lease_blocks",
