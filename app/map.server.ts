@@ -15,6 +15,7 @@ import { traceBoundaries, traceStreams } from "./vectorise";
 import { apiError } from "./security.server";
 import type { Role } from "./permissions";
 import { curveFromRow, pointsOf } from "./sea-level-curves.server";
+import { displayGridFor } from "./display.server";
 
 const OVERLAY_KINDS = ["survey_area", "dredging_areas", "lease_blocks", "ocean_boundary", "survey_lines", "interpretations", "exclusions", "development_footprint", "cores"] as const;
 
@@ -75,6 +76,8 @@ export async function mapPayload(project: { id: number; name: string; crsEpsg: n
             id: r.id,
             name: r.name || `Reconstruction ${r.id}`,
             grid: manifest.grid,
+            // what the layer API's display copies are on (app/display.server.ts)
+            displayGrid: displayGridFor(manifest.grid),
             agesKa: [...manifest.agesKa].sort((a, b) => b - a),
             layers: manifest.layers.map((l) => ({ name: l.name, ageKa: l.ageKa, units: l.units, type: l.type, stats: l.stats })),
             ages: manifest.ages.map((a) => ({ ageKa: a.ageKa, seaLevelM: a.seaLevelM, counts: a.counts })),

@@ -103,3 +103,145 @@ export function previewRgba(
   }
   return { width: w, height: h, rgba, min: min === Infinity ? null : min, max: max === -Infinity ? null : max };
 }
+
+// ---------------------------------------------------------------------------------------------
+// The display grid: what the map and the live scoring work on. A reconstruction larger than the
+// display's longest side is reduced by a whole step (step × step cells become one), each layer by
+// the reduction docs/layers.md names for it ("Display reduction"): the mean for continuous values
+// (ignoring nodata), the maximum for masks and counts, the majority for classes and codes, and the
+// mean of unit vectors for aspect. The layer API, the scoring job's display check and the browser
+// all use these functions, so what the browser scores is what the job checks.
+
+export type Reduction = "mean" | "max" | "majority" | "aspect";
+
+/** Per layer, as docs/layers.md lists it (a test holds the two together); other layers: mean. */
+export const LAYER_REDUCTION: Readonly<Record<string, Reduction>> = {
+  flooding_status: "majority",
+  land_class: "majority",
+  flow_direction: "majority",
+  surface_source: "majority",
+  reexposures: "max",
+  stream_order: "max",
+  shoreline: "max",
+  river_mouths: "max",
+  confluences: "max",
+  unassessed: "max",
+  thin_cover: "max",
+  aspect: "aspect",
+};
+
+export function reductionOf(layer: string): Reduction {
+  return LAYER_REDUCTION[layer] ?? "mean";
+}
+
+export interface DisplayGrid {
+  width: number;
+  height: number;
+  originX: number;
+  originY: number;
+  cellSizeX: number;
+  cellSizeY: number;
+  /** cells of the full grid per display cell, along each side (1 = full resolution) */
+  step: number;
+}
+
+/** The longest display side a map and the live scoring work with by default. */
+export const DEFAULT_DISPLAY_MAX_SIDE = 1024;
+
+/**
+ * The display grid of a full grid: the smallest whole step that brings the longer side to at most
+ * `maxSide` cells; the last row and column may cover fewer full cells. Same origin. O(1).
+ */
+export function displayGridOf(grid: { width: number; height: number; originX: number; originY: number; cellSizeX: number; cellSizeY: number }, maxSide = DEFAULT_DISPLAY_MAX_SIDE): DisplayGrid {
+  const step = Math.max(1, Math.ceil(Math.max(grid.width, grid.height) / Math.max(1, Math.floor(maxSide))));
+  return {
+    width: Math.ceil(grid.width / step),
+    height: Math.ceil(grid.height / step),
+    originX: grid.originX,
+    originY: grid.originY,
+    cellSizeX: grid.cellSizeX * step,
+    cellSizeY: grid.cellSizeY * step,
+    step,
+  };
+}
+
+/**
+ * Common practice, no source (block reduction of a raster to a coarser grid).
+ *
+ * Reduces a row-major `width` × `height` raster by `step` with `reduction`; nodata cells (NaN, or
+ * `nodata`) are left out of every block, and a block with none left is NaN. Majority ties go to the
+ * smaller value; aspect (degrees clockwise from north) is the direction of the summed unit vectors,
+ * NaN when they cancel. With step 1 the values come back unchanged (as Float32). O(width × height).
+ */
+export function reduceToDisplay(values: ArrayLike<number>, width: number, height: number, step: number, reduction: Reduction, nodata: number | "NaN" = "NaN"): Float32Array {
+  if (step <= 1) {
+    const out = Float32Array.from(values as ArrayLike<number>);
+    if (nodata !== "NaN") for (let i = 0; i < out.length; i++) if (out[i] === nodata) out[i] = NaN;
+    return out;
+  }
+  const w = Math.ceil(width / step);
+  const h = Math.ceil(height / step);
+  const out = new Float32Array(w * h);
+  const bag: number[] = [];
+  const DEG = Math.PI / 180;
+  for (let R = 0; R < h; R++) {
+    const r0 = R * step;
+    const r1 = Math.min(height, r0 + step);
+    for (let C = 0; C < w; C++) {
+      const c0 = C * step;
+      const c1 = Math.min(width, c0 + step);
+      let n = 0;
+      let sum = 0;
+      let sumY = 0;
+      let best = -Infinity;
+      bag.length = 0;
+      for (let r = r0; r < r1; r++) {
+        const base = r * width;
+        for (let c = c0; c < c1; c++) {
+          const v = values[base + c];
+          if (v !== v || (nodata !== "NaN" && v === nodata)) continue;
+          n++;
+          if (reduction === "mean") sum += v;
+          else if (reduction === "max") best = v > best ? v : best;
+          else if (reduction === "aspect") {
+            sum += Math.cos(v * DEG);
+            sumY += Math.sin(v * DEG);
+          } else bag.push(v);
+        }
+      }
+      let result = NaN;
+      if (n > 0) {
+        if (reduction === "mean") result = sum / n;
+        else if (reduction === "max") result = best;
+        else if (reduction === "aspect") {
+          if (Math.hypot(sum, sumY) > 1e-9 * n) {
+            const deg = Math.atan2(sumY, sum) / DEG;
+            result = deg < 0 ? deg + 360 : deg;
+          }
+        } else {
+          bag.sort((a, b) => a - b);
+          let run = 1;
+          let bestRun = 0;
+          for (let k = 1; k <= bag.length; k++) {
+            if (k < bag.length && bag[k] === bag[k - 1]) run++;
+            else {
+              if (run > bestRun) {
+                bestRun = run;
+                result = bag[k - 1];
+              }
+              run = 1;
+            }
+          }
+        }
+      }
+      out[R * w + C] = result;
+    }
+  }
+  return out;
+}
+
+/** A layer's display copy: reduced to the display grid (the layer's own reduction), then quantised. */
+export function displayCopy(values: ArrayLike<number>, width: number, height: number, step: number, layer: string, bits: 8 | 16, nodata: number | "NaN" = "NaN"): Quantised & { width: number; height: number } {
+  const reduced = step > 1 || nodata !== "NaN" ? reduceToDisplay(values, width, height, step, reductionOf(layer), nodata) : values;
+  return { ...quantise(reduced, "NaN", bits), width: Math.ceil(width / step), height: Math.ceil(height / step) };
+}

@@ -5,7 +5,9 @@
 // the display checksum equals the pipeline run from the layer API's 8-bit display copies (what the
 // browser worker receives); the statistics add up; identical requests reuse; bad requests are
 // refused with their message and nothing stored; a viewer reads but may not start.
-Object.assign(process.env, FAST_JOB_SETTINGS, { LOWSTAND_WORKER_SHUTDOWN_GRACE_MS: "3000", LOWSTAND_ENGINE_THREADS: "0" });
+// The display side is set below the grid's (48 cells → a step of 3, 16 × 16 display cells), so the
+// display path checked here is the reduced one a large reconstruction takes.
+Object.assign(process.env, FAST_JOB_SETTINGS, { LOWSTAND_WORKER_SHUTDOWN_GRACE_MS: "3000", LOWSTAND_ENGINE_THREADS: "0", LOWSTAND_DISPLAY_MAX_SIDE: "20" });
 
 import { execFileSync } from "node:child_process";
 import { createHash } from "node:crypto";
@@ -125,6 +127,10 @@ afterAll(async () => {
   await stopBoss();
 });
 
+/** ceil(48 / 20) = 3 full cells per display cell along each side; ceil(48 / 3) = 16 display cells. */
+const DISPLAY_STEP = 3;
+const DISPLAY_SIDE = 16;
+
 /** Every layer of the reconstruction through the layer API: the GeoTIFF's values and the ?display=8 codes. */
 async function layersFromApi() {
   const values = new Map<string, LayerData>();
@@ -139,6 +145,7 @@ async function layersFromApi() {
     const d = await callWith(apiLayer.loader, new Request(new URL(`/api/reconstructions/${reconstructionId}/layers/${l.name}${q ? `${q}&` : "?"}display=8`, ORIGIN), { headers: auth() }), { id: String(reconstructionId), layer: l.name });
     expect(d.status, `${key} display`).toBe(200);
     const h = (n: string) => Number(d.headers.get(n));
+    expect([h("X-Lowstand-Width"), h("X-Lowstand-Height"), h("X-Lowstand-Step")], `${key} display grid`).toEqual([DISPLAY_SIDE, DISPLAY_SIDE, DISPLAY_STEP]);
     codes.set(key, { kind: "codes", codes: new Uint8Array(await d.arrayBuffer()), scale: h("X-Lowstand-Scale"), offset: h("X-Lowstand-Offset"), nodataCode: h("X-Lowstand-Nodata-Code") });
   }
   return { values, codes };
@@ -212,7 +219,10 @@ describe("a scoring", () => {
       if (!(a === b || (a !== a && b !== b))) differ++;
     }
     expect(differ, "cells where the job's potential differs from the pipeline run here").toBe(0);
-    const display = scoreTarget(content, grid, manifest.agesKa, target, (n, a) => codes.get(`${n}@${a}`), evidence);
+    const displayGrid = { width: DISPLAY_SIDE, height: DISPLAY_SIDE, cellSizeX: CELL * DISPLAY_STEP, cellSizeY: CELL * DISPLAY_STEP, originX: ORIGIN_X, originY: ORIGIN_Y };
+    const display = scoreTarget(content, displayGrid, manifest.agesKa, target, (n, a) => codes.get(`${n}@${a}`), evidence);
+    expect(display.potential.length).toBe(DISPLAY_SIDE * DISPLAY_SIDE);
+    expect(result.displayChecksum.grid).toEqual({ width: DISPLAY_SIDE, height: DISPLAY_SIDE, step: DISPLAY_STEP });
     expect(result.displayChecksum.checksum).toBe(potentialChecksum(display.potential));
     expect(result.displayChecksum.inputs.length).toBeGreaterThan(0);
 

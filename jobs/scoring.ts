@@ -13,7 +13,8 @@ import { and, eq, inArray } from "drizzle-orm";
 import { db } from "../app/db.server";
 import { datasets, projects, scorings } from "../app/db/schema";
 import { getJson, store } from "../app/storage.server";
-import { quantise } from "../app/raster-display";
+import { displayCopy } from "../app/raster-display";
+import { displayGridFor } from "../app/display.server";
 import { writeGeoTiff } from "../app/terrain/geotiff-write";
 import { nodeDeflate } from "../app/terrain/geotiff-deflate-node";
 import { resolveCrs } from "../app/terrain/crs";
@@ -217,7 +218,9 @@ export const scoringJob = defineJob<ScoringPayload>("scoring", async (ctx) => {
     ctx.throwIfCancelled();
 
     // The display copies: each layer quantised to 8 bits, as the layer API's ?display=8 sends it.
-    const quantised = new Map<string, ReturnType<typeof quantise>>();
+    const quantised = new Map<string, ReturnType<typeof displayCopy>>();
+    // … on the display grid the map and the browser's live scoring use (app/display.server.ts)
+    const dgrid = displayGridFor(g);
     const source = (path: "values" | "codes"): LayerSource => (name, ageKa) => {
       const id = idOf(name, ageKa);
       const l = loaded.get(id);
@@ -231,7 +234,7 @@ export const scoringJob = defineJob<ScoringPayload>("scoring", async (ctx) => {
       }
       if (path === "values") return { kind: "values", values: l.values };
       let q = quantised.get(id);
-      if (!q) quantised.set(id, (q = quantise(l.values, "NaN", 8)));
+      if (!q) quantised.set(id, (q = displayCopy(l.values, g.width, g.height, dgrid.step, name, 8)));
       return { kind: "codes", codes: q.data, scale: q.scale, offset: q.offset, nodataCode: q.nodataCode };
     };
     const gridAt = { ...grid, originX: g.originX, originY: g.originY };
@@ -243,7 +246,7 @@ export const scoringJob = defineJob<ScoringPayload>("scoring", async (ctx) => {
       full = scoreTarget(content, gridAt, manifest.agesKa, scoreTargetOf, source("values"), evidence.points);
       ctx.throwIfCancelled();
       ctx.progress(0.65, "scoring the display copy");
-      display = scoreTarget(content, gridAt, manifest.agesKa, scoreTargetOf, source("codes"), evidence.points);
+      display = scoreTarget(content, { width: dgrid.width, height: dgrid.height, cellSizeX: dgrid.cellSizeX, cellSizeY: dgrid.cellSizeY, originX: dgrid.originX, originY: dgrid.originY }, manifest.agesKa, scoreTargetOf, source("codes"), evidence.points);
       ctx.throwIfCancelled();
     } catch (e) {
       if (e instanceof ScoringInputError) throw new JobUserError(e.message);
@@ -305,7 +308,8 @@ export const scoringJob = defineJob<ScoringPayload>("scoring", async (ctx) => {
       displayChecksum: {
         checksum: potentialChecksum(display.potential),
         bits: 8,
-        note: "Every input quantised to 8 bits as the layer API's ?display=8 sends it (class layers decoded as round(code × scale + offset), the nodata code → 255), scored from the codes.",
+        grid: { width: dgrid.width, height: dgrid.height, step: dgrid.step },
+        note: "Every input reduced to the display grid and quantised to 8 bits as the layer API's ?display=8 sends it (class layers decoded as round(code × scale + offset), the nodata code → 255), scored from the codes.",
         inputs: displayInputs,
         evidence: { points: evidence.points.length, sha256: createHash("sha256").update(JSON.stringify(evidence.points)).digest("hex") },
       },

@@ -1,10 +1,11 @@
 // GET /api/models/:id/raster — a published model's probability raster as a GeoTIFF download
 // (project CRS, Float32, NaN off the model age's land). ?display=8 — a quantised copy for the map,
-// exactly as the layer API sends one: raw codes, row-major, with X-Lowstand-Width/Height/Scale/
+// exactly as the layer API sends one (on the display grid, the mean over each display cell): raw codes, row-major, with X-Lowstand-Width/Height/Scale/
 // Offset/Nodata-Code headers (value = code × scale + offset). models.read only: a viewer gets 403.
 import { requireModelAccess } from "~/resource-access.server";
 import { modelRasterBytes, modelRasterFileName } from "~/models.server";
-import { quantise } from "~/raster-display";
+import { displayCopy } from "~/raster-display";
+import { displayGridFor } from "~/display.server";
 import { readGeoTiff } from "~/terrain/geotiff-read";
 import { apiError } from "~/security.server";
 import { apiAction, methodNotAllowed } from "~/route-helpers.server";
@@ -21,12 +22,14 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     if (display === null)
       return new Response(new Uint8Array(bytes), { headers: { "Content-Type": "image/tiff", "Content-Disposition": `attachment; filename="${modelRasterFileName(project, model.id, model.params ? (model.params as { ageKa: number }).ageKa : 0)}"`, "Cache-Control": PRIVATE } });
     const grid = (await readGeoTiff(new Uint8Array(bytes))).grid;
-    const q = quantise(grid.data, "NaN", 8);
+    const { step } = displayGridFor(grid.spec);
+    const q = displayCopy(grid.data, grid.spec.width, grid.spec.height, step, "probability", 8);
     return new Response(new Uint8Array(q.data.buffer as ArrayBuffer, q.data.byteOffset, q.data.byteLength), {
       headers: {
         "Content-Type": "application/octet-stream",
-        "X-Lowstand-Width": String(grid.spec.width),
-        "X-Lowstand-Height": String(grid.spec.height),
+        "X-Lowstand-Width": String(q.width),
+        "X-Lowstand-Height": String(q.height),
+        "X-Lowstand-Step": String(step),
         "X-Lowstand-Scale": String(q.scale),
         "X-Lowstand-Offset": String(q.offset),
         "X-Lowstand-Nodata-Code": String(q.nodataCode),

@@ -1,11 +1,14 @@
 // GET /api/reconstructions/:id/layers/:layer?age=<ka> — the layer as a GeoTIFF (project CRS).
 //   &display=8|16 — a quantised copy for the map: raw little-endian codes, row-major, with
 //   X-Lowstand-Width/Height/Scale/Offset/Nodata-Code headers (value = code × scale + offset) and
-//   X-Lowstand-Units (percent-encoded).
+//   X-Lowstand-Units (percent-encoded). The copy is on the display grid (app/display.server.ts): a
+//   grid longer than the display's side is reduced by X-Lowstand-Step cells per display cell, with
+//   the layer's own reduction (docs/layers.md).
 import { requireReconstructionAccess } from "~/resource-access.server";
 import { findLayer, layerGrid } from "~/layers.server";
 import { store } from "~/storage.server";
-import { quantise } from "~/raster-display";
+import { displayCopy } from "~/raster-display";
+import { displayGridFor } from "~/display.server";
 import { apiError } from "~/security.server";
 import { methodNotAllowed } from "~/route-helpers.server";
 import type { Route } from "./+types/api.reconstruction-layer";
@@ -22,13 +25,15 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   }
   if (display !== "8" && display !== "16") return apiError(400, "bad_display", "display must be 8 or 16 (bits).");
   const grid = await layerGrid(key, manifest, layer);
-  const q = quantise(grid.data, "NaN", display === "8" ? 8 : 16);
+  const { step } = displayGridFor(grid.spec);
+  const q = displayCopy(grid.data, grid.spec.width, grid.spec.height, step, layer.name, display === "8" ? 8 : 16);
   const body = new Uint8Array(q.data.buffer as ArrayBuffer, q.data.byteOffset, q.data.byteLength);
   return new Response(body, {
     headers: {
       "Content-Type": "application/octet-stream",
-      "X-Lowstand-Width": String(grid.spec.width),
-      "X-Lowstand-Height": String(grid.spec.height),
+      "X-Lowstand-Width": String(q.width),
+      "X-Lowstand-Height": String(q.height),
+      "X-Lowstand-Step": String(step),
       "X-Lowstand-Scale": String(q.scale),
       "X-Lowstand-Offset": String(q.offset),
       "X-Lowstand-Nodata-Code": String(q.nodataCode),

@@ -40,6 +40,7 @@ export interface WorkspaceExtras {
 export function MapWorkspace({ data, reconstruction: r, extras = {} }: { data: MapData; reconstruction: Reconstruction; extras?: WorkspaceExtras }) {
   const queryClient = useQueryClient();
   const grid = r.grid;
+  const dgrid = r.displayGrid;
   const origin = useMemo(() => ({ originX: grid.originX, originY: grid.originY }), [grid.originX, grid.originY]);
   const extentM = useMemo(() => ({ width: grid.width * grid.cellSizeX, height: grid.height * grid.cellSizeY }), [grid]);
   const defs = useMemo(() => layerCatalogue(data), [data]);
@@ -119,7 +120,7 @@ export function MapWorkspace({ data, reconstruction: r, extras = {} }: { data: M
   const maskPoints = new Map<string, Array<[number, number]>>();
   maskDefs.forEach((d, i) => {
     const q = maskResults[i];
-    const points = q?.data ? cellPoints(q.data, grid.cellSizeX, grid.cellSizeY) : null;
+    const points = q?.data ? cellPoints(q.data, dgrid.cellSizeX, dgrid.cellSizeY) : null;
     status[d.id] = { loading: q?.isFetching ?? true, error: q?.error ? q.error.message : null, empty: !!points && points.length === 0 && !q.isPlaceholderData };
     if (points) maskPoints.set(d.id, points);
   });
@@ -235,8 +236,9 @@ export function MapWorkspace({ data, reconstruction: r, extras = {} }: { data: M
   // Readout: values under the cursor from the arrays already loaded (no server call).
   const readoutValues: ReadoutValue[] = [];
   if (hover) {
-    const col = Math.floor(hover[0] / grid.cellSizeX);
-    const row = Math.floor(-hover[1] / grid.cellSizeY);
+    // display cells: the copies the map holds are on the display grid
+    const col = Math.floor(hover[0] / dgrid.cellSizeX);
+    const row = Math.floor(-hover[1] / dgrid.cellSizeY);
     if (extras.extraReadout) readoutValues.push(...extras.extraReadout(col, row));
     for (const d of rasterDefs) {
       const l = loaded.get(d.id);
@@ -316,7 +318,7 @@ export function MapWorkspace({ data, reconstruction: r, extras = {} }: { data: M
             <LayerList defs={defs} state={layerState} status={status} onChange={(id, next) => setLayerState((s) => ({ ...s, [id]: next }))} />
             <p className="mt-4 text-xs text-sediment-600">
               Grid {grid.width} × {grid.height} cells of {grid.cellSizeX} × {grid.cellSizeY} m{data.project.crsEpsg ? ` · EPSG:${data.project.crsEpsg}` : ""}. Values come from the reconstruction&apos;s display
-              copy (8-bit); the GeoTIFFs on the{" "}
+              copy (8-bit{dgrid.step > 1 ? `, ${dgrid.width} × ${dgrid.height} cells: every ${dgrid.step} × ${dgrid.step} cells reduced to one` : ""}); the GeoTIFFs on the{" "}
               <Link className="underline" to={`/projects/${data.project.id}/reconstructions/${r.id}`}>
                 reconstruction page
               </Link>{" "}

@@ -55,6 +55,8 @@ export interface MapData {
     id: number;
     name: string | null;
     grid: MapGrid;
+    /** the grid the display copies (and so the readouts and the live scoring) are on */
+    displayGrid: MapGrid & { step: number };
     /** oldest first */
     agesKa: number[];
     layers: MapLayerInfo[];

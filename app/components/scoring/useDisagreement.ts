@@ -52,7 +52,7 @@ export function useDisagreement(opts: { reconstruction: Reconstruction; contents
     const w = worker.current;
     if (!w || loading > 0 || layerError || contents.length < 2) return;
     const id = ++latest.current;
-    w.postMessage({ type: "disagree", id, grid: r.grid, agesKa: r.agesKa, contents, target, evidence, topN } satisfies ToWorker);
+    w.postMessage({ type: "disagree", id, grid: r.displayGrid, agesKa: r.agesKa, contents, target, evidence, topN } satisfies ToWorker);
   }, [contents, target, evidence, topN, loading, layerError, loadedTag]);
 
   return { result, error: error ?? layerError, loading };

@@ -81,7 +81,8 @@ export function useLiveScoring(opts: {
   compare: { content: WeightSetContent; topN: number } | null;
 }): LiveScore {
   const { reconstruction: r, content, target, evidence, compare } = opts;
-  const grid: WorkerGrid = r.grid;
+  // the display copies' grid (the layer API reduces a large reconstruction to it)
+  const grid: WorkerGrid = r.displayGrid;
   const needed = useMemo(() => (content ? layersNeeded(r, compare ? [content, compare.content] : [content], target) : []), [r, content, compare, target]);
   const results = useQueries({ queries: needed.map((n) => rasterQuery(r.id, n.layer, n.ageKa)) });
   const loading = results.filter((q) => !q.data && !q.isError).length;
