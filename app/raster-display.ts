@@ -58,14 +58,14 @@ const CATEGORY_COLOURS: [number, number, number][] = [[230, 159, 0], [86, 180, 2
 
 /**
  * An RGBA preview at most `maxSide` cells on its longer side (nearest sample): continuous values
- * in viridis between min and max, classes in the given colours or a qualitative set; nodata transparent.
+ * in viridis between min and max (the data's, or a fixed `range`), classes in the given colours or a qualitative set; nodata transparent.
  */
 export function previewRgba(
   values: ArrayLike<number>,
   width: number,
   height: number,
   nodata: number | "NaN",
-  opts: { classes?: Record<number, [number, number, number]> | "categories"; maxSide?: number } = {},
+  opts: { classes?: Record<number, [number, number, number]> | "categories"; maxSide?: number; range?: { min: number; max: number } } = {},
 ) {
   const maxSide = opts.maxSide ?? 256;
   const step = Math.max(1, Math.ceil(Math.max(width, height) / maxSide));
@@ -74,7 +74,10 @@ export function previewRgba(
   const isNodata = (v: number) => (nodata === "NaN" ? v !== v : v === nodata || v !== v);
   let min = Infinity;
   let max = -Infinity;
-  if (!opts.classes) {
+  if (opts.range) {
+    min = opts.range.min;
+    max = opts.range.max;
+  } else if (!opts.classes) {
     for (let i = 0; i < values.length; i++) {
       const v = values[i];
       if (!isNodata(v)) {

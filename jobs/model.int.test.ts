@@ -212,6 +212,16 @@ describe("a trained model", () => {
     const classCells = m.result.classes.reduce((s: number, c: { cells: number }) => s + c.cells, 0);
     expect(classCells).toBe(onLand);
 
+    // ?preview=png: a picture of the same grid (48 cells a side, under the 640 limit: one pixel a cell).
+    const png = await raster(modelId, "?preview=png");
+    expect(png.status).toBe(200);
+    expect(png.headers.get("Content-Type")).toBe("image/png");
+    const pngBytes = new Uint8Array(await png.arrayBuffer());
+    expect(Array.from(pngBytes.slice(0, 8))).toEqual([137, 80, 78, 71, 13, 10, 26, 10]); // the PNG signature (ISO/IEC 15948)
+    const view = new DataView(pngBytes.buffer, pngBytes.byteOffset);
+    expect([view.getUint32(16), view.getUint32(20)]).toEqual([SIZE, SIZE]); // IHDR width and height
+    expect((await raster(modelId, "?preview=gif")).status).toBe(400);
+
     // ?display=8: the layer API's quantised form.
     const d = await raster(modelId, "?display=8");
     expect(d.status).toBe(200);
@@ -258,6 +268,7 @@ describe("a trained model", () => {
       await callWith(apiModel.loader, new Request(new URL(`/api/models/${modelId}`, ORIGIN), { headers: auth(world.viewerToken) }), { id: String(modelId) }),
       await raster(modelId, "", world.viewerToken),
       await raster(modelId, "?display=8", world.viewerToken),
+      await raster(modelId, "?preview=png", world.viewerToken),
       await callWith(apiModels.loader, new Request(new URL(`/api/projects/${world.projectId}/models`, ORIGIN), { headers: auth(world.viewerToken) }), { projectId: String(world.projectId) }),
     ]) {
       expect(res.status).toBe(403);

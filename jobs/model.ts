@@ -273,7 +273,7 @@ export const modelJob = defineJob<ModelPayload>("model", async (ctx) => {
         cap: settings.backgroundCells,
         drawn: draws.map((d) => ({ ageKa: d.ageKa, requested: d.requested, available: d.available, drawn: d.cells.length })),
         searchedGround: { cells: effort.cells, areaKm2: effort.cells * cellAreaKm2, surveyLineCells: effort.lineCells, coredCells: effort.coreCells, surveyCorridorM: settings.surveyCorridorM, coreRadiusM: settings.coreRadiusM, surveyLines: ev.lines.length, cores: ev.corePositions.length, dredgedAreaCells: effort.areaCells, dredgingAreas: ev.areas.length, targetResults: ev.targetResults },
-        rule: "Survey-line corridors and cored areas; dredging areas are not recorded as an evidence kind yet. Only cells that were land or intertidal at each presence's age.",
+        rule: "Drawn only from cells that were land or intertidal at each presence's age (a target-group background, after Phillips et al. 2009).",
       },
       crossValidation: { k: settings.folds, blockSizeM: settings.blockSizeM, blocks: cv.assignment.blocks, blocksWithPresences: cv.assignment.blocksWithPresences, presencesPerFold: cv.assignment.presences, backgroundPerFold: cv.assignment.background },
       excludedWords: exclusionWords(card0Excluded(set)),

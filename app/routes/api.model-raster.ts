@@ -1,10 +1,12 @@
 // GET /api/models/:id/raster — a published model's probability raster as a GeoTIFF download
 // (project CRS, Float32, NaN off the model age's land). ?display=8 — a quantised copy for the map,
 // exactly as the layer API sends one (on the display grid, the mean over each display cell): raw codes, row-major, with X-Lowstand-Width/Height/Scale/
-// Offset/Nodata-Code headers (value = code × scale + offset). models.read only: a viewer gets 403.
+// Offset/Nodata-Code headers (value = code × scale + offset). ?preview=png — a picture of it (viridis,
+// 0–1). models.read only: a viewer gets 403.
 import { requireModelAccess } from "~/resource-access.server";
 import { modelRasterBytes, modelRasterFileName } from "~/models.server";
-import { displayCopy } from "~/raster-display";
+import { displayCopy, previewRgba } from "~/raster-display";
+import { encodePng } from "~/png.server";
 import { displayGridFor } from "~/display.server";
 import { readGeoTiff } from "~/terrain/geotiff-read";
 import { apiError } from "~/security.server";
@@ -15,13 +17,21 @@ const PRIVATE = "private, no-store";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { modelId, project } = await requireModelAccess(request, params.id, "models.read");
-  const display = new URL(request.url).searchParams.get("display");
+  const url = new URL(request.url);
+  const display = url.searchParams.get("display");
+  const preview = url.searchParams.get("preview");
   if (display !== null && display !== "8") return apiError(400, "bad_display", "display must be 8 (bits).");
+  if (preview !== null && preview !== "png") return apiError(400, "bad_preview", "preview must be png.");
   return apiAction(async () => {
     const { model, bytes } = await modelRasterBytes(modelId);
-    if (display === null)
+    if (display === null && preview === null)
       return new Response(new Uint8Array(bytes), { headers: { "Content-Type": "image/tiff", "Content-Disposition": `attachment; filename="${modelRasterFileName(project, model.id, model.params ? (model.params as { ageKa: number }).ageKa : 0)}"`, "Cache-Control": PRIVATE } });
     const grid = (await readGeoTiff(new Uint8Array(bytes))).grid;
+    if (preview === "png") {
+      // A picture for the model's page: viridis on the fixed 0–1 scale of a share of trees, the sea transparent.
+      const p = previewRgba(grid.data, grid.spec.width, grid.spec.height, "NaN", { maxSide: 640, range: { min: 0, max: 1 } });
+      return new Response(new Uint8Array(encodePng(p.width, p.height, p.rgba)), { headers: { "Content-Type": "image/png", "Cache-Control": PRIVATE } });
+    }
     const { step } = displayGridFor(grid.spec);
     const q = displayCopy(grid.data, grid.spec.width, grid.spec.height, step, "probability", 8);
     return new Response(new Uint8Array(q.data.buffer as ArrayBuffer, q.data.byteOffset, q.data.byteLength), {

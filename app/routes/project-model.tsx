@@ -12,7 +12,34 @@ import { ModelCardView, type CardJson } from "~/components/models/ModelCardView"
 import { ModelRefusal, type RefusalNumbers } from "~/components/models/ModelRefusal";
 import { ValidationSummary } from "~/components/validation/ValidationSummary";
 import type { ValidationView } from "~/components/validation/types";
+import { scaleGradient } from "~/components/map/colour-scales";
 import type { Route } from "./+types/project-model";
+
+/** The probability raster as a picture (GET /api/models/:id/raster?preview=png), with its scale. */
+function ProbabilityPicture({ modelId, ageKa }: { modelId: number; ageKa: number }) {
+  const [state, setState] = useState<"loading" | "shown" | "failed">("loading");
+  return (
+    <figure className="mt-3 max-w-xl" data-testid="model-picture" data-state={state}>
+      <img
+        src={`/api/models/${modelId}/raster?preview=png`}
+        alt={`Probability of presence at ${ageKa} ka, from dark purple (0) to yellow (1); the sea at that age left blank`}
+        className="w-full rounded-sm border border-sand-300 bg-deep-900 [image-rendering:pixelated]"
+        onLoad={() => setState("shown")}
+        onError={() => setState("failed")}
+      />
+      {state === "failed" ? <p className="mt-1 text-xs text-caution-800">The picture could not be drawn; the GeoTIFF below holds the values.</p> : null}
+      <figcaption className="mt-2 text-xs text-sediment-700">
+        <span className="flex items-center gap-2">
+          <span className="tabular-nums">0</span>
+          <span className="inline-block h-2.5 w-48 rounded-sm border border-sediment-400" style={{ background: scaleGradient("viridis") }} aria-hidden="true" />
+          <span className="tabular-nums">1</span>
+          <span>share of trees voting “site” (viridis)</span>
+        </span>
+        <span className="mt-1 block">Known sites are not marked: the model peaks on the sites it was trained on. North is up; the sea at {ageKa} ka is left blank.</span>
+      </figcaption>
+    </figure>
+  );
+}
 
 /** The model held against the sites and cores as a scoring is (GET /api/models/:id/validation). */
 function ModelValidation({ projectId, modelId, name }: { projectId: number; modelId: number; name: string }) {
@@ -122,6 +149,7 @@ export default function ProjectModel({ loaderData }: Route.ComponentProps) {
                   ))}
                 </tbody>
               </table>
+              <ProbabilityPicture modelId={model.id} ageKa={model.ageKa} />
               {model.downloads.map((d) => (
                 <a key={d.name} className="mt-2 inline-block underline" href={d.href}>
                   Download the probability GeoTIFF

@@ -66,6 +66,11 @@ test.describe("models as the lead", () => {
     await expect(card).toContainText("not land at its age — 1 left out");
     await expect(card).toContainText("held out — 1 site kept for validation");
     await expect(card).toContainText("Presences per age: 7 at 12 ka, 8 at 10 ka. The raster is predicted at 10 ka (the age most presences are compared at).");
+    // The probability raster as a picture, drawn from the model's own file.
+    const picture = page.getByTestId("model-picture");
+    await picture.scrollIntoViewIfNeeded();
+    await expect(picture).toHaveAttribute("data-state", "shown");
+    expect(await picture.getByRole("img").evaluate((img: HTMLImageElement) => img.naturalWidth)).toBeGreaterThan(0);
     const model = ((await (await page.request.get(`/api/models/${modelId}`)).json()) as { model: { ageKa: number; status: string } }).model;
     expect(model).toMatchObject({ status: "published", ageKa: 10 });
 
