@@ -5,7 +5,7 @@
 import { createHash } from "node:crypto";
 import { asc, eq } from "drizzle-orm";
 import { db } from "./db.server";
-import { datasets, projects, scorings, weightSetVersions } from "./db/schema";
+import { datasets, models, projects, scorings, weightSetVersions } from "./db/schema";
 import { UserError } from "./errors";
 import { store } from "./storage.server";
 import { readGeoTiff } from "./terrain/geotiff-read";
@@ -22,6 +22,7 @@ import { blockFigures, classificationOf, conflictTable, exclusionZones, mitigati
 import { getUncertaintyRun, uncertaintyView } from "./uncertainty.server";
 import { DEFAULT_EXCLUSION_BUFFERS_M, type ExclusionBuffers } from "./scoring/zones";
 import type { Viewer } from "./sites.server";
+import { can } from "./permissions";
 
 /** The dataset kinds the review desk's figures read (conflicts, blocks, exclusion zones). */
 const DESK_KINDS = ["development_footprint", "lease_blocks", "exclusions", "interpretations", "known_sites"];
@@ -66,6 +67,34 @@ export async function frozenScoringRaster(review: ReviewLike, name: string) {
   if (sha !== frozen.sha256) throw new UserError(409, "snapshot_broken", `Scoring ${snap.scoring.id}'s ${name} raster no longer matches the snapshot (SHA-256 ${sha.slice(0, 12)}… against the frozen ${frozen.sha256.slice(0, 12)}…): it is not drawn.`);
   const { grid } = await readGeoTiff(bytes);
   return { values: grid.data as Float32Array, width: grid.spec.width, height: grid.spec.height, sha256: sha };
+}
+
+/**
+ * The probability raster of a review's frozen model, checked against the SHA-256 the snapshot froze
+ * as a scoring's rasters are. The caller checks the reader may see model rasters (design §9).
+ */
+export async function frozenModelRaster(review: ReviewLike) {
+  const snap = review.snapshot as unknown as ReviewSnapshot;
+  if (snap.subject.kind !== "model") throw new UserError(404, "no_model", "This review looks at a weight set, not a trained model: it has no probability map.");
+  const subject = snap.subject.model;
+  const frozen = subject.files.find((f) => f.name === "probability");
+  if (!frozen) throw new UserError(404, "no_such_map", `The reviewed model has no probability raster (it has ${subject.files.map((f) => f.name).join(", ")}).`);
+  const [m] = await db().select({ layerPrefix: models.layerPrefix, result: models.result }).from(models).where(eq(models.id, subject.id));
+  const file = ((m?.result as { files?: { name: string; file: string }[] } | null)?.files ?? []).find((f) => f.name === "probability");
+  if (!m?.layerPrefix || !file) throw new UserError(409, "snapshot_broken", `Model ${subject.id}'s probability raster is no longer where the snapshot left it.`);
+  const bytes = await store().getBytes(`${m.layerPrefix}/${file.file}`);
+  const sha = createHash("sha256").update(bytes).digest("hex");
+  if (sha !== frozen.sha256) throw new UserError(409, "snapshot_broken", `Model ${subject.id}'s probability raster no longer matches the snapshot (SHA-256 ${sha.slice(0, 12)}… against the frozen ${frozen.sha256.slice(0, 12)}…): it is not drawn.`);
+  const { grid } = await readGeoTiff(bytes);
+  return { values: grid.data as Float32Array, width: grid.spec.width, height: grid.spec.height, sha256: sha };
+}
+
+/** A PNG of the frozen model's probability (viridis over 0–1, the sea transparent), as its page draws it. */
+export async function reviewModelMapPng(review: ReviewLike, maxSide = 900): Promise<Uint8Array<ArrayBuffer>> {
+  const raster = await frozenModelRaster(review);
+  const v = reduce(raster.values, raster.width, raster.height, maxSide, (n) => new Float32Array(n));
+  const rgba = potentialRgba(v.data, null, v.w, v.h);
+  return new Uint8Array(encodePng(v.w, v.h, new Uint8Array(rgba.buffer, rgba.byteOffset, rgba.byteLength)));
 }
 
 /** Nearest-sample reduction to at most `maxSide` cells on the longer side. O(output). */
@@ -250,6 +279,13 @@ export async function reviewReport(review: ReviewView, viewer: Viewer | null = n
     classes,
     classesProblem,
     maps: snap.scoring ? REVIEW_MAPS.filter((m) => snap.scoring!.files.some((f) => f.name === m)) : [],
+    // A model's map peaks on exact site positions: drawn only for roles that may see model rasters.
+    modelMap:
+      snap.subject.kind !== "model" || !snap.subject.model.files.some((f) => f.name === "probability")
+        ? ("none" as const)
+        : can(viewer?.role, "models.read")
+          ? ("shown" as const)
+          : ("withheld" as const),
   };
 }
 export type ReviewReport = Awaited<ReturnType<typeof reviewReport>>;

@@ -12,7 +12,7 @@ import { inflateSync } from "node:zlib";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { eq } from "drizzle-orm";
 import { db } from "~/db.server";
-import { auditLog, datasets, reconstructions, reviewComments, reviews, scorings } from "~/db/schema";
+import { auditLog, datasets, models, reconstructions, reviewComments, reviews, scorings } from "~/db/schema";
 import { store } from "~/storage.server";
 import { writeGeoTiff } from "~/terrain/geotiff-write";
 import { resolveCrs } from "~/terrain/crs";
@@ -360,6 +360,56 @@ describe("the report's figures", () => {
     expect(res.status).toBe(200);
     const other = await call(reportPage.loader, `/projects/${world.otherProjectId}/reviews/${r.id}/report`, { headers: as("outsider"), params: { projectId: String(world.otherProjectId), reviewId: String(r.id) } });
     expect(other.status).toBe(404);
+  });
+});
+
+describe("a review of a trained model", () => {
+  // An invented published model whose probability raster is the potential above (a share of trees).
+  const PROBABILITY = POTENTIAL;
+  let modelReviewId: number;
+  const modelKey = () => `models/p${world.projectId}/m-test/probability.tif`;
+
+  beforeAll(async () => {
+    const [rec] = await db().select({ id: reconstructions.id }).from(reconstructions).where(eq(reconstructions.projectId, world.projectId)).limit(1);
+    const bytes = tiff(PROBABILITY, "float");
+    await store().put(modelKey(), bytes, "image/tiff");
+    const [m] = await db()
+      .insert(models)
+      .values({ projectId: world.projectId, reconstructionId: rec.id, name: "Forest at 12 ka", params: { ageKa: 12 }, inputsHash: "model-inputs", status: "published", layerPrefix: `models/p${world.projectId}/m-test`, result: { files: [{ name: "probability", file: "probability.tif", bytes: bytes.byteLength, sha256: sha(bytes) }] }, publishedAt: new Date() })
+      .returning();
+    const res = await openAs("reviewer", { title: "The forest", modelId: m.id });
+    expect(res.status, await res.clone().text()).toBe(201);
+    modelReviewId = ((await res.json()) as { review: { id: number } }).review.id;
+  });
+
+  it("draws the frozen model's probability for those who may see model rasters, and never for a viewer", async () => {
+    const map = (who: Who) => call(apiMap.loader, `/api/reviews/${modelReviewId}/map.png?layer=probability`, { headers: as(who), params: { id: String(modelReviewId) } });
+    const res = await map("reviewer");
+    expect(res.status).toBe(200);
+    const png = decodePng(new Uint8Array(await res.arrayBuffer()));
+    expect([png.width, png.height]).toEqual([W, H]);
+    expect([...png.rgba]).toEqual([...potentialRgba(Float32Array.from(PROBABILITY), null, W, H)]);
+    expect((await map("viewer")).status).toBe(403);
+    // A review of a scoring has no model to draw.
+    const [scoringReview] = await db().select({ id: reviews.id }).from(reviews).limit(1);
+    expect((await call(apiMap.loader, `/api/reviews/${scoringReview.id}/map.png?layer=probability`, { headers: as("reviewer"), params: { id: String(scoringReview.id) } })).status).toBe(404);
+
+    const report = async (who: Who) =>
+      ((await (await call(reportPage.loader, `/projects/${world.projectId}/reviews/${modelReviewId}/report`, { headers: as(who), params: { projectId: String(world.projectId), reviewId: String(modelReviewId) } })).json()) as { report: { modelMap: string } }).report.modelMap;
+    expect(await report("reviewer")).toBe("shown");
+    expect(await report("viewer")).toBe("withheld");
+  });
+
+  it("refuses to draw a model file that no longer matches the snapshot", async () => {
+    const original = await store().getBytes(modelKey());
+    await store().put(modelKey(), tiff(PROBABILITY.map((v) => v * 0.5), "float"), "image/tiff");
+    try {
+      const res = await call(apiMap.loader, `/api/reviews/${modelReviewId}/map.png?layer=probability`, { headers: as("reviewer"), params: { id: String(modelReviewId) } });
+      expect(res.status).toBe(409);
+      expect(((await res.json()) as { error: { message: string } }).error.message).toMatch(/no longer matches the snapshot/);
+    } finally {
+      await store().put(modelKey(), original, "image/tiff");
+    }
   });
 });
 

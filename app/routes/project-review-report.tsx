@@ -214,8 +214,24 @@ export default function ReviewReportPage({ loaderData }: Route.ComponentProps) {
                 </figcaption>
               </figure>
             ))
+          ) : report.modelMap === "shown" && s.subject.kind === "model" ? (
+            <figure>
+              <img src={`/api/reviews/${review.id}/map.png?layer=probability`} alt={`Map of the probability of trained model ${s.subject.model.name || `#${s.subject.model.id}`}`} data-testid="map-probability" />
+              <figcaption>
+                <strong>Figure {++fig}.</strong> Probability of presence, trained model “{s.subject.model.name || `#${s.subject.model.id}`}” (share of trees), drawn on the server from its published raster
+                (SHA-256 <span className="hash">{s.subject.model.files.find((f) => f.name === "probability")?.sha256.slice(0, 16)}…</span>, checked against the snapshot). North up; the sea transparent. The
+                model peaks on the sites it was trained on: this figure is not for distribution below analyst.
+                <span className="legend">
+                  0 <span className="ramp" aria-hidden="true" /> 1
+                </span>
+              </figcaption>
+            </figure>
+          ) : report.modelMap === "withheld" ? (
+            <p className="not-available" data-testid="map-withheld">
+              The trained model&apos;s map is shown to analysts, leads, owners and reviewers only: it peaks on exact site positions.
+            </p>
           ) : (
-            <NotAvailable what="A map of a trained model's probability" />
+            <NotAvailable what="A map of this review's subject" />
           )}
           {classes ? (
             <>
