@@ -1,6 +1,8 @@
 // Turning a layer into something a screen can show quickly: a quantised copy (8 or 16 bits with a
 // scale and offset, for the map) and a small PNG preview. Pure: typed arrays in, bytes out.
 
+import type { MaskGrid } from "./scoring/polygon-mask";
+
 export interface Quantised {
   bits: 8 | 16;
   /** value = code × scale + offset; the top code (255 or 65535) is nodata */
@@ -137,13 +139,8 @@ export function reductionOf(layer: string): Reduction {
   return LAYER_REDUCTION[layer] ?? "mean";
 }
 
-export interface DisplayGrid {
-  width: number;
-  height: number;
-  originX: number;
-  originY: number;
-  cellSizeX: number;
-  cellSizeY: number;
+/** A grid placed in the project CRS (the shape every grid here has) with its reduction step. */
+export interface DisplayGrid extends MaskGrid {
   /** cells of the full grid per display cell, along each side (1 = full resolution) */
   step: number;
 }
@@ -155,7 +152,7 @@ export const DEFAULT_DISPLAY_MAX_SIDE = 1024;
  * The display grid of a full grid: the smallest whole step that brings the longer side to at most
  * `maxSide` cells; the last row and column may cover fewer full cells. Same origin. O(1).
  */
-export function displayGridOf(grid: { width: number; height: number; originX: number; originY: number; cellSizeX: number; cellSizeY: number }, maxSide = DEFAULT_DISPLAY_MAX_SIDE): DisplayGrid {
+export function displayGridOf(grid: MaskGrid, maxSide = DEFAULT_DISPLAY_MAX_SIDE): DisplayGrid {
   const step = Math.max(1, Math.ceil(Math.max(grid.width, grid.height) / Math.max(1, Math.floor(maxSide))));
   return {
     width: Math.ceil(grid.width / step),
