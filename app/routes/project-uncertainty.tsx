@@ -386,7 +386,7 @@ export default function ProjectUncertainty({ loaderData }: Route.ComponentProps)
                 </PrimaryButton>
               </div>
               {started && !started.ok && (
-                <p role="alert" className="col-span-2 text-sm text-red-700">
+                <p role="alert" className="col-span-2 text-sm text-caution-800">
                   {started.error}
                 </p>
               )}
@@ -398,6 +398,11 @@ export default function ProjectUncertainty({ loaderData }: Route.ComponentProps)
       )}
       <section>
         <h2 className="font-semibold">Runs</h2>
+        {d.runs.length === 0 ? (
+          <p className="text-sm text-sediment-600">
+            {d.mayStart ? "No analysis yet. Choose an age on the strip and a weight-set version above, then run it: 1 000 draws take seconds." : "No analysis yet. A reviewer, analyst, lead or owner of this project runs one."}
+          </p>
+        ) : null}
         <ul className="text-sm">
           {d.runs.map((r) => (
             <li key={r.id}>
@@ -406,7 +411,7 @@ export default function ProjectUncertainty({ loaderData }: Route.ComponentProps)
               </button>{" "}
               {r.version.setName} v{r.version.number}, {r.targetLabel}, {r.params.draws} draws, seed {r.params.seed} — <span data-testid={`run-status-${r.id}`}>{r.status}</span>
               {r.status === "running" && ` (${Math.round(r.progress * 100)} %)`}
-              {r.error && <span className="text-red-700"> {r.error}</span>}
+              {r.error && <span className="text-caution-800"> {r.error}</span>}
             </li>
           ))}
         </ul>
