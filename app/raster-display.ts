@@ -183,6 +183,8 @@ export function reduceToDisplay(values: ArrayLike<number>, width: number, height
   const h = Math.ceil(height / step);
   const out = new Float32Array(w * h);
   const bag: number[] = [];
+  const counts = new Uint16Array(256);
+  const touched: number[] = [];
   const DEG = Math.PI / 180;
   for (let R = 0; R < h; R++) {
     const r0 = R * step;
@@ -195,6 +197,9 @@ export function reduceToDisplay(values: ArrayLike<number>, width: number, height
       let sumY = 0;
       let best = -Infinity;
       bag.length = 0;
+      for (const code of touched) counts[code] = 0;
+      touched.length = 0;
+      let notSmall = false;
       for (let r = r0; r < r1; r++) {
         const base = r * width;
         for (let c = c0; c < c1; c++) {
@@ -206,7 +211,13 @@ export function reduceToDisplay(values: ArrayLike<number>, width: number, height
           else if (reduction === "aspect") {
             sum += Math.cos(v * DEG);
             sumY += Math.sin(v * DEG);
-          } else bag.push(v);
+          } else {
+            bag.push(v);
+            // class codes are small whole numbers: count them instead of sorting
+            if (v >= 0 && v < 256 && v === Math.floor(v)) {
+              if (counts[v]++ === 0) touched.push(v);
+            } else notSmall = true;
+          }
         }
       }
       let result = NaN;
@@ -217,6 +228,15 @@ export function reduceToDisplay(values: ArrayLike<number>, width: number, height
           if (Math.hypot(sum, sumY) > 1e-9 * n) {
             const deg = Math.atan2(sumY, sum) / DEG;
             result = deg < 0 ? deg + 360 : deg;
+          }
+        } else if (!notSmall) {
+          let bestCount = 0;
+          for (const code of touched) {
+            const k = counts[code];
+            if (k > bestCount || (k === bestCount && code < result)) {
+              bestCount = k;
+              result = code;
+            }
           }
         } else {
           bag.sort((a, b) => a - b);

@@ -18,6 +18,7 @@
  * Prints readable lines, then one JSON line.
  */
 import { cpus, loadavg, totalmem } from "node:os";
+import { reduceToDisplay } from "../../app/raster-display";
 import {
   createPreservationCache,
   createScoreScratch,
@@ -242,6 +243,25 @@ const presChange = time(() => {
   colour(r.potential, r.unassessed);
 });
 
+// Serving the display copies: one full-resolution layer (4 × size)² reduced to this display grid by
+// each rule (app/raster-display.ts reduceToDisplay), once per layer and age the map asks for.
+const full = 4 * size;
+const fullLayer = new Float32Array(full * full);
+for (let i = 0; i < fullLayer.length; i++) fullLayer[i] = ((i * 2654435761) >>> 0) % 4;
+const reduceRuns = Math.max(1, Math.min(3, runs));
+const timeFew = (f: () => void) => {
+  const xs: number[] = [];
+  for (let k = 0; k < reduceRuns; k++) {
+    const t0 = performance.now();
+    f();
+    xs.push(performance.now() - t0);
+  }
+  return { median: median(xs), min: Math.min(...xs), max: Math.max(...xs) };
+};
+const reduceMean = timeFew(() => void reduceToDisplay(fullLayer, full, full, 4, "mean"));
+const reduceMajority = timeFew(() => void reduceToDisplay(fullLayer, full, full, 4, "majority"));
+const reduceAspect = timeFew(() => void reduceToDisplay(fullLayer, full, full, 4, "aspect"));
+
 const occupiable = last.occupation.reduce((s, v) => (v === v ? s + 1 : s), 0);
 const ms = (x: { median: number }) => x.median.toFixed(1).padStart(6);
 const range = (x: { min: number; max: number }) => `(${x.min.toFixed(1)}–${x.max.toFixed(1)})`;
@@ -261,11 +281,13 @@ console.log(`    (b) without reused buffers (allocating)             ${ms(aAlloc
 console.log(`    preservation model itself (3 ages, 60 cores)        ${ms(presModel)} ${range(presModel)}`);
 console.log(`    preservation model with its cache (a curve moved)   ${ms(presCached)} ${range(presCached)}`);
 console.log(`    a preservation curve moved: model (cached) + (b) + (c) ${ms(presChange)} ${range(presChange)}`);
+console.log(`  display copies: one ${full}² layer reduced by 4 to this grid (median of ${reduceRuns}) — mean ${ms(reduceMean)}, majority ${ms(reduceMajority)}, aspect ${ms(reduceAspect)} ms`);
 console.log(`load average after ${loadavg().map((x) => x.toFixed(2)).join(" ")}`);
 console.log(
   JSON.stringify({
     machine, size, runs, warmup, occupiable, loadStart, loadEnd: loadavg(),
     ms: { a, b, c, a16, aShelter, shelterFirst, aAlloc, presModel, presCached, presChange },
     inputToImage: { off: a.median + c.median, on: b.median + c.median },
+    displayReductionMs: { fullSide: full, mean: reduceMean.median, majority: reduceMajority.median, aspect: reduceAspect.median },
   }),
 );
