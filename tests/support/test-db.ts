@@ -40,8 +40,30 @@ export async function createTestDatabase(label = "t"): Promise<{ name: string; u
   return { name, url: clusterUrl(name) };
 }
 
+/**
+ * Drops a test database, ending the sessions still connected to it. WITH (FORCE) may not end an
+ * autovacuum worker that happens to be in it (that needs more than our role's rights); a plain DROP
+ * asks autovacuum to stop by itself, so on that refusal the plain form is tried, and the two are
+ * retried briefly while our own sessions or the worker are still there.
+ */
 export async function dropTestDatabase(name: string): Promise<void> {
-  await onMaintenance((c) => c.query(`DROP DATABASE IF EXISTS "${name}" WITH (FORCE)`));
+  await onMaintenance(async (c) => {
+    for (let attempt = 0; ; attempt++) {
+      try {
+        await c.query(`DROP DATABASE IF EXISTS "${name}" WITH (FORCE)`);
+        return;
+      } catch (err) {
+        if (attempt > 30 || !/must be a member of the role whose process is being terminated|must be a superuser to terminate/.test(String(err))) throw err;
+      }
+      try {
+        await c.query(`DROP DATABASE IF EXISTS "${name}"`);
+        return;
+      } catch (err) {
+        if (!/being accessed by other users/.test(String(err))) throw err;
+      }
+      await new Promise((r) => setTimeout(r, 200));
+    }
+  });
 }
 
 export { clusterUrl };
