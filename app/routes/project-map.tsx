@@ -2,8 +2,17 @@
 // (browser only), the evidence and planning layers, a cursor readout, the cross-section and the
 // sea-level strip. The page server-renders its chrome with the same payload the map API gives
 // this caller (mapPayload decides what each role may see); deck.gl itself loads in the browser.
+// With an adopted weight-set version, the potential at the age on the strip is scored in the browser
+// (the weighing page's worker and code) and drawn over the layers, switchable in the layer panel.
 import { useQuery } from "@tanstack/react-query";
+import { useCallback, useMemo, useState } from "react";
 import { Link } from "react-router";
+import { adoptedVersion } from "~/weight-sets.server";
+import { rasterCanvas } from "~/components/map/raster";
+import { useLiveScoring } from "~/components/scoring/useLiveScoring";
+import { evidenceFromOverlays } from "~/components/scoring/evidence";
+import type { WeightSetContent } from "~/scoring/weight-set";
+import type { ScoreTarget } from "~/scoring/scoring-inputs";
 import { requireProjectAccess } from "~/permissions.server";
 import { can } from "~/permissions";
 import { mapPayload } from "~/map.server";
@@ -19,7 +28,14 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const requested = new URL(request.url).searchParams.get("reconstruction");
   // (the server types GeoJSON geometry loosely; the shape is the API's, checked by the map's tests)
   const map = (await mapPayload(project, { userId: identity.user.id, role }, requested)) as unknown as MapData;
-  return { projectId: project.id, mayReconstruct: can(role, "runs.start"), map, requested };
+  const adopted = await adoptedVersion(project.id);
+  return {
+    projectId: project.id,
+    mayReconstruct: can(role, "runs.start"),
+    map,
+    requested,
+    adopted: adopted ? { setId: adopted.set.id, name: adopted.set.name, version: adopted.version.version, content: adopted.version.content } : null,
+  };
 }
 
 export default function ProjectMap({ loaderData }: Route.ComponentProps) {
@@ -46,7 +62,7 @@ export default function ProjectMap({ loaderData }: Route.ComponentProps) {
           </Link>
         </Frame>
       ) : (
-        <MapWorkspace key={data.reconstruction.id} data={data} reconstruction={data.reconstruction} />
+        <MapWithPotential key={data.reconstruction.id} data={data} reconstruction={data.reconstruction} adopted={loaderData.adopted} projectId={projectId} />
       )}
     </div>
   );
@@ -54,4 +70,50 @@ export default function ProjectMap({ loaderData }: Route.ComponentProps) {
 
 function Frame({ children }: { children: React.ReactNode }) {
   return <div className="flex flex-1 flex-col items-center justify-center bg-deep-950 p-8 text-center">{children}</div>;
+}
+
+type Adopted = { setId: number; name: string; version: number; content: WeightSetContent } | null;
+
+/** The workspace with the adopted weights' potential at the age on the strip, scored in the browser. */
+function MapWithPotential({ data, reconstruction: r, adopted, projectId }: { data: MapData; reconstruction: NonNullable<MapData["reconstruction"]>; adopted: Adopted; projectId: number }) {
+  const [ageKa, setAgeKa] = useState(r.agesKa[0]);
+  const [on, setOn] = useState(true);
+  const target: ScoreTarget = useMemo(() => ({ kind: "age", ageKa }), [ageKa]);
+  const evidence = useMemo(() => evidenceFromOverlays(data.overlays), [data.overlays]);
+  const live = useLiveScoring({ reconstruction: r, content: adopted && on ? adopted.content : null, target, evidence, compare: null });
+  const res = live.result;
+  const overlay = useMemo(() => {
+    if (!adopted || !on || !res || typeof document === "undefined") return null;
+    return { id: "potential", canvas: rasterCanvas(res.rgba, res.width, res.height), opacity: 0.8, tag: res.checksum };
+    // the result belongs to the age it was asked for; a stale one is replaced within a frame or two
+  }, [adopted, on, res]);
+  const extraReadout = useCallback(
+    (col: number, row: number) => {
+      if (!adopted || !on || !res || col < 0 || row < 0 || col >= res.width || row >= res.height) return [];
+      const i = row * res.width + col;
+      const v = res.potential[i];
+      return [{ label: `Potential (${ageKa} ka)`, text: v === v ? v.toFixed(3) : res.unassessed[i] === 1 ? "unassessed" : "—" }];
+    },
+    [adopted, on, res, ageKa],
+  );
+  const overlaySwitch = adopted
+    ? {
+        label: "Potential (adopted weights)",
+        on,
+        onChange: setOn,
+        note: (
+          <>
+            “{adopted.name}” v{adopted.version}, scored in your browser at the age on the strip with the scoring job&apos;s own code
+            {live.error ? <span className="text-caution-800"> — {live.error}</span> : live.loading ? " — loading its layers…" : ""}. Full resolution and downloads on the{" "}
+            <Link className="underline" to={`/projects/${projectId}/weights/${adopted.setId}`}>
+              weight set&apos;s page
+            </Link>
+            .
+          </>
+        ),
+      }
+    : undefined;
+  // The map counts as drawn at an age once the potential shown is that age's (or there is none to wait for).
+  const overlayReady = !adopted || !on || !!live.error || (!!res && res.target.kind === "age" && res.target.ageKa === ageKa);
+  return <MapWorkspace data={data} reconstruction={r} extras={{ overlay, extraReadout, onAgeChange: setAgeKa, overlaySwitch, overlayReady }} />;
 }

@@ -63,6 +63,13 @@ test.describe("the map workspace for an analyst", () => {
     await expect(page.getByRole("checkbox", { name: "Hillshade", exact: true })).toBeVisible();
     await expect(page.locator("[data-layer-error]")).toHaveCount(0);
 
+    // The adopted weights' potential, scored in the browser at the age on the strip, is drawn over the layers.
+    const potentialSwitch = page.getByRole("checkbox", { name: "Potential (adopted weights)" });
+    await expect(potentialSwitch).toBeChecked();
+    await expect(page.getByTestId("overlay-switch")).toContainText("“Estuary foragers” v2");
+    await expect(map).toHaveAttribute("data-overlay-tag", /^[0-9a-f]{8}$/);
+    const potentialAt20 = await map.getAttribute("data-overlay-tag");
+
     const canvas = map.locator("canvas").first();
     const at20 = await canvas.screenshot();
 
@@ -73,6 +80,8 @@ test.describe("the map workspace for an analyst", () => {
     await expect(page.getByTestId("age-summary")).toContainText(/^16 ka BP · sea level −\d+\.\d mland \d+ % · sea \d+ %/);
     const at16 = await canvas.screenshot();
     expect(at16.equals(at20)).toBe(false);
+    // (the map counts as drawn at 16 ka only once the potential shown is 16 ka's: a new picture)
+    expect(await map.getAttribute("data-overlay-tag")).not.toBe(potentialAt20);
 
     // The strip is a keyboard slider: arrow keys move along the ages.
     const strip = page.getByRole("slider", { name: /Age on the sea-level curve/ });
@@ -90,6 +99,9 @@ test.describe("the map workspace for an analyst", () => {
     await waitForAge(map, "20", before);
     expect((await canvas.screenshot()).equals(at20)).toBe(true);
 
+    // Back at 20 ka the potential is 20 ka's again.
+    expect(await map.getAttribute("data-overlay-tag")).toBe(potentialAt20);
+
     // Hiding the land and water layer changes the picture too.
     before = await renderCount(map);
     await page.getByRole("checkbox", { name: "Land and water" }).uncheck();
@@ -105,6 +117,7 @@ test.describe("the map workspace for an analyst", () => {
     await expect(page.getByTestId("readout-ddm")).toHaveText(/^\d+° \d{2}\.\d{3}′ S, \d+° \d{2}\.\d{3}′ E$/);
     await expect(page.getByTestId("readout-dd")).toHaveText(/^−\d+\.\d{6}° lat, \d+\.\d{6}° lon$/);
     await expect(readout).toContainText(/Surface elevation −?\d+(\.\d)? m/);
+    await expect(readout).toContainText(/Potential \(20 ka\) (\d\.\d{3}|unassessed|—)/);
 
     // A cross-section by two clicks on the map.
     await page.getByRole("button", { name: "Section" }).click();

@@ -16,6 +16,7 @@ import { SectionDrawer } from "./SectionDrawer";
 import { Cautions } from "~/components/Cautions";
 import type { RasterRender, VectorRender } from "./DeckMap.client";
 import type { MapData } from "./types";
+import { scaleGradient } from "./colour-scales";
 
 const DeckMap = lazy(() => import("./DeckMap.client"));
 
@@ -35,6 +36,10 @@ export interface WorkspaceExtras {
   onAgeChange?: (ageKa: number) => void;
   /** layers to start hidden or shown, by id */
   initialVisibility?: Record<string, boolean>;
+  /** false while the overlay is not yet the one for the age on the strip (the map is then not "drawn") */
+  overlayReady?: boolean;
+  /** a switch for the overlay at the head of the layer list (the map page's potential) */
+  overlaySwitch?: { label: string; note: ReactNode; on: boolean; onChange: (on: boolean) => void };
 }
 
 export function MapWorkspace({ data, reconstruction: r, extras = {} }: { data: MapData; reconstruction: Reconstruction; extras?: WorkspaceExtras }) {
@@ -124,7 +129,7 @@ export function MapWorkspace({ data, reconstruction: r, extras = {} }: { data: M
     status[d.id] = { loading: q?.isFetching ?? true, error: q?.error ? q.error.message : null, empty: !!points && points.length === 0 && !q.isPlaceholderData };
     if (points) maskPoints.set(d.id, points);
   });
-  const ready = maskResults.every((q) => (q.data && !q.isPlaceholderData) || q.isError) && rasterResults.every((q) => (q.data && !q.isPlaceholderData) || q.isError) && vectorResults.every((q) => (q.data && !q.isPlaceholderData) || q.isError);
+  const ready = maskResults.every((q) => (q.data && !q.isPlaceholderData) || q.isError) && rasterResults.every((q) => (q.data && !q.isPlaceholderData) || q.isError) && vectorResults.every((q) => (q.data && !q.isPlaceholderData) || q.isError) && (extras.overlayReady ?? true);
 
   const rasterRenders: RasterRender[] = [];
   if (mounted) {
@@ -314,6 +319,7 @@ export function MapWorkspace({ data, reconstruction: r, extras = {} }: { data: M
             ) : null}
             <AgeSummary ageKa={age} ages={r.ages} />
             {extras.workPanel && panelTab === "work" ? extras.workPanel.content : (<>
+            {extras.overlaySwitch ? <OverlaySwitch {...extras.overlaySwitch} /> : null}
             <h2 className="mb-2 text-sm font-semibold">Layers</h2>
             <LayerList defs={defs} state={layerState} status={status} onChange={(id, next) => setLayerState((s) => ({ ...s, [id]: next }))} />
             <p className="mt-4 text-xs text-sediment-600">
@@ -417,3 +423,19 @@ function objectId(o: object): number {
   return id;
 }
 const canvasId = objectId;
+
+/** One switch for a picture the page draws over the map (not a reconstruction layer): its name, legend and note. */
+function OverlaySwitch({ label, note, on, onChange }: NonNullable<WorkspaceExtras["overlaySwitch"]>) {
+  return (
+    <section aria-label={label} className="mb-3 rounded-sm border border-sand-200 bg-white p-2" data-testid="overlay-switch">
+      <label className="flex items-center gap-2 text-sm font-medium">
+        <input type="checkbox" checked={on} onChange={(e) => onChange(e.target.checked)} />
+        {label}
+      </label>
+      <div className="mt-1 flex items-center gap-1.5 text-[11px] text-sediment-600">
+        0 <span className="inline-block h-2 w-24 rounded-sm" style={{ background: scaleGradient("viridis") }} aria-hidden="true" /> 1 · <span className="inline-block h-2 w-4 rounded-sm border border-sediment-400" style={{ background: "repeating-linear-gradient(45deg, #787878 0 1px, #e1ded7 1px 3px)" }} aria-hidden="true" /> unassessed
+      </div>
+      <div className="mt-1 text-[11px] text-sediment-600">{note}</div>
+    </section>
+  );
+}

@@ -110,6 +110,7 @@ self.onmessage = (ev: MessageEvent<ToWorker>) => {
         {
           type: "scored",
           id: msg.id,
+          target: msg.target,
           width: grid.width,
           height: grid.height,
           rgba,

@@ -55,6 +55,8 @@ export type ToWorker =
 export interface ScoredMessage {
   type: "scored";
   id: number;
+  /** what was scored (the request's target), so a page can tell a result for another age */
+  target: ScoreTarget;
   width: number;
   height: number;
   /** the picture for the map (RGBA, row 0 north) */
