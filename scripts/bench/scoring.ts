@@ -197,10 +197,10 @@ function median(xs: number[]): number {
   const m = s.length >> 1;
   return s.length % 2 ? s[m] : (s[m - 1] + s[m]) / 2;
 }
-function time(f: () => void): { median: number; min: number; max: number } {
-  for (let k = 0; k < warmup; k++) f();
+function time(f: () => void, n = runs, w = warmup): { median: number; min: number; max: number } {
+  for (let k = 0; k < w; k++) f();
   const xs: number[] = [];
-  for (let k = 0; k < runs; k++) {
+  for (let k = 0; k < n; k++) {
     const t0 = performance.now();
     f();
     xs.push(performance.now() - t0);
@@ -249,15 +249,7 @@ const full = 4 * size;
 const fullLayer = new Float32Array(full * full);
 for (let i = 0; i < fullLayer.length; i++) fullLayer[i] = ((i * 2654435761) >>> 0) % 4;
 const reduceRuns = Math.max(1, Math.min(3, runs));
-const timeFew = (f: () => void) => {
-  const xs: number[] = [];
-  for (let k = 0; k < reduceRuns; k++) {
-    const t0 = performance.now();
-    f();
-    xs.push(performance.now() - t0);
-  }
-  return { median: median(xs), min: Math.min(...xs), max: Math.max(...xs) };
-};
+const timeFew = (f: () => void) => time(f, reduceRuns, 0);
 const reduceMean = timeFew(() => void reduceToDisplay(fullLayer, full, full, 4, "mean"));
 const reduceMajority = timeFew(() => void reduceToDisplay(fullLayer, full, full, 4, "majority"));
 const reduceAspect = timeFew(() => void reduceToDisplay(fullLayer, full, full, 4, "aspect"));
