@@ -15,6 +15,7 @@ import { ScoringInputError } from "./scoring/errors";
 import { checkPeriodAgainstAges, type PeriodSetting, type WeightSetContent } from "./scoring/weight-set";
 import { weightSetContentSchema } from "./weight-set-schema";
 import type { Manifest } from "./terrain/reconstruct";
+import { displayGridFor } from "./display.server";
 
 /**
  * Bump when the scoring job's output changes meaning for the same inputs (the pipeline, the
@@ -126,6 +127,9 @@ export async function resolveScoringRequest(projectId: number, req: ScoringReque
     weights: v.version.contentHash,
     target,
     evidence,
+    // The job's display check is made on the display grid: a different reduction is a different
+    // scoring. Left out at step 1, so scorings of grids within the display side keep their keys.
+    ...(displayGridFor(manifest.grid).step > 1 ? { displayStep: displayGridFor(manifest.grid).step } : {}),
   };
   const inputsHash = createHash("sha256").update(JSON.stringify(fingerprint)).digest("hex");
   return { reconstruction: rec, manifest, version: v.version, setName: v.setName, content, target, inputsHash };

@@ -32,6 +32,7 @@ import * as apiScorings from "~/routes/api.project-scorings";
 import * as apiScoring from "~/routes/api.scoring";
 import * as apiRaster from "~/routes/api.scoring-raster";
 import { stopBoss } from "./boss.server";
+import { resolveScoringRequest } from "~/scorings.server";
 import { shelfTiff, uploadDataset, shelfPicksCsv, shelfCoresCsv } from "../tests/support/small-shelf";
 import { buildWorld, callWith, ORIGIN, type World } from "../tests/support/world";
 import { FAST_JOB_SETTINGS, startWorker, stopWorkers, waitFor } from "../tests/support/workers";
@@ -281,6 +282,24 @@ describe("a scoring", () => {
     expect(again.status).toBe(200);
     expect(again.body).toMatchObject({ reused: true, scoring: { id: ageScoringId, status: "published" } });
     expect(await scoringCount()).toBe(n);
+  });
+
+  it("keys a scoring by its display reduction too: another display step is another scoring, the same step the same one", async () => {
+    const req = { reconstructionId, weightSetVersionId: versionId, target: { kind: "age" as const, ageKa: 12 } };
+    const saved = process.env.LOWSTAND_DISPLAY_MAX_SIDE;
+    try {
+      const at3 = (await resolveScoringRequest(world.projectId, req)).inputsHash; // this file's side, 20: a step of 3
+      process.env.LOWSTAND_DISPLAY_MAX_SIDE = "16"; // ceil(48 / 16) = 3 as well: the same reduction, the same key
+      expect((await resolveScoringRequest(world.projectId, req)).inputsHash).toBe(at3);
+      process.env.LOWSTAND_DISPLAY_MAX_SIDE = "24"; // a step of 2
+      const at2 = (await resolveScoringRequest(world.projectId, req)).inputsHash;
+      expect(at2).not.toBe(at3);
+      process.env.LOWSTAND_DISPLAY_MAX_SIDE = "1024"; // step 1: full resolution, a third key
+      const at1 = (await resolveScoringRequest(world.projectId, req)).inputsHash;
+      expect(new Set([at1, at2, at3]).size).toBe(3);
+    } finally {
+      process.env.LOWSTAND_DISPLAY_MAX_SIDE = saved;
+    }
   });
 
   it("scores a period, with preservation off: the time-weighted ages, no preservation raster", async () => {
