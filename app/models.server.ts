@@ -469,6 +469,7 @@ export function modelAttemptPrefix(projectId: number, modelId: number, runId: st
 
 export const MODEL_RASTER_FILE = "probability.tif";
 export const MODEL_FOREST_FILE = "forest.json";
+export const MODEL_PREVIEW_FILE = "probability-display.tif";
 
 /**
  * Publishes a model's card, result and files — only if this attempt still owns the run. Returns
@@ -484,6 +485,49 @@ export async function publishModel(modelId: number, runId: string, attempt: numb
     if (rows.length) await recordAudit(tx, { actorUserId: null, projectId: rows[0].projectId, action: "model.published", detail: { modelId, runId, attempt } });
     return rows.length > 0;
   });
+}
+
+/** The display-resolution first look a running model shows before its full-resolution raster. */
+export interface ModelPreview {
+  /** storage key of the preview GeoTIFF (this attempt's prefix) */
+  key: string;
+  width: number;
+  height: number;
+  step: number;
+}
+
+const previewShape = (p: ModelPreview) => ({ width: p.width, height: p.height, step: p.step });
+
+/**
+ * Records the display-resolution preview on the running model (its result holds only the preview
+ * until publication) — only while this attempt may still publish (the same guard).
+ */
+export async function publishModelPreview(modelId: number, runId: string, attempt: number, preview: ModelPreview): Promise<boolean> {
+  const rows = await db()
+    .update(models)
+    .set({ result: { preview } })
+    .where(and(eq(models.id, modelId), eq(models.jobRunId, runId), eq(models.status, "running"), attemptMayPublish(runId, attempt)))
+    .returning({ id: models.id });
+  return rows.length > 0;
+}
+
+/**
+ * The bytes a picture of the model is drawn from: the published probability raster, or — while the
+ * model still runs — its display-resolution preview once there is one.
+ */
+export async function modelPictureBytes(modelId: number) {
+  const m = await getModel(modelId);
+  if (!m) throw new UserError(404, "no_such_model", "There is no such model.");
+  const preview = (m.result as { preview?: ModelPreview } | null)?.preview;
+  if (m.effectiveStatus === "running" && preview) {
+    try {
+      return { model: m, bytes: await store().getBytes(preview.key), preview: true };
+    } catch {
+      // an attempt that ended removed its files; the next one writes its own preview
+      throw new UserError(409, "no_preview_yet", `Model ${m.id} is still training: its first look is not ready yet.`);
+    }
+  }
+  return { ...(await modelRasterBytes(modelId)), preview: false };
 }
 
 export async function markModelEnded(modelId: number, runId: string, status: "failed" | "cancelled", error: string, card: Record<string, unknown> | null = null) {
@@ -511,7 +555,8 @@ export function modelView(m: ModelWithRun) {
     error: m.error ?? (m.effectiveStatus === "failed" ? (m.run?.message ?? null) : null),
     /** the model card; for a refused run, what the job counted before it refused */
     card: m.card ?? null,
-    result: m.status === "published" ? m.result : null,
+    // published: the result; still training: only its display-resolution first look, once there is one
+    result: m.status === "published" ? m.result : m.effectiveStatus === "running" && (m.result as { preview?: unknown } | null)?.preview ? { preview: previewShape((m.result as { preview: ModelPreview }).preview) } : null,
     downloads: m.status === "published" ? [{ name: "probability", href: `/api/models/${m.id}/raster` }] : [],
     createdAt: m.createdAt.toISOString(),
     publishedAt: m.publishedAt?.toISOString() ?? null,

@@ -4,7 +4,9 @@
 // over the API and published with its card and fold metrics; derived finds and negative cores never
 // enter training; too few sites are refused with the count before anything is stored; a viewer gets
 // no model, no card and no raster; the reviewer reads the card but may not start one.
-Object.assign(process.env, FAST_JOB_SETTINGS, { LOWSTAND_WORKER_SHUTDOWN_GRACE_MS: "3000", LOWSTAND_ENGINE_THREADS: "0" });
+// The display side is set below the grid's (48 cells → a step of 3, 16 × 16 display cells), so the
+// model predicts its display-resolution first look before the full raster, as on a large grid.
+Object.assign(process.env, FAST_JOB_SETTINGS, { LOWSTAND_WORKER_SHUTDOWN_GRACE_MS: "3000", LOWSTAND_ENGINE_THREADS: "0", LOWSTAND_DISPLAY_MAX_SIDE: "20" });
 
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { count, eq } from "drizzle-orm";
@@ -15,8 +17,10 @@ import { readGeoTiff } from "~/terrain/geotiff-read";
 import { layerGrid } from "~/layers.server";
 import { layerKey } from "~/reconstructions.server";
 import type { Manifest } from "~/terrain/reconstruct";
-import { deserialiseForest } from "~/scoring/forest";
-import { getJson } from "~/storage.server";
+import { deserialiseForest, predictRaster } from "~/scoring/forest";
+import { factorDef, type FactorId } from "~/scoring/factors";
+import { reduceToDisplay, reductionOf } from "~/raster-display";
+import { getJson, store } from "~/storage.server";
 import * as apiRecons from "~/routes/api.project-reconstructions";
 import * as apiModels from "~/routes/api.project-models";
 import * as apiModel from "~/routes/api.model";
@@ -59,6 +63,16 @@ async function raster(id: number, query = "", t = token) {
 }
 
 const modelCount = async () => (await db().select({ n: count() }).from(models))[0].n;
+
+/** ceil(48 / 20) = 3 full cells per display cell; ceil(48 / 3) = 16 display cells a side. */
+const DISPLAY_STEP = 3;
+const DISPLAY_SIDE = 16;
+
+/** A reconstruction layer's values as the job reads them. */
+async function readLayer(name: string, ageKa: number | null) {
+  const [r] = await db().select().from(reconstructions).where(eq(reconstructions.id, reconstructionId));
+  return (await layerGrid(layerKey(r, name, ageKa)!, manifest, manifest.layers.find((l) => l.name === name && (l.ageKa ?? null) === ageKa)!)).data;
+}
 
 let reconstructionId: number;
 let manifest: Manifest;
@@ -216,26 +230,53 @@ describe("a trained model", () => {
     const png = await raster(modelId, "?preview=png");
     expect(png.status).toBe(200);
     expect(png.headers.get("Content-Type")).toBe("image/png");
+    expect(png.headers.get("X-Lowstand-Preview")).toBe("full"); // published: drawn from the full raster
     const pngBytes = new Uint8Array(await png.arrayBuffer());
     expect(Array.from(pngBytes.slice(0, 8))).toEqual([137, 80, 78, 71, 13, 10, 26, 10]); // the PNG signature (ISO/IEC 15948)
     const view = new DataView(pngBytes.buffer, pngBytes.byteOffset);
     expect([view.getUint32(16), view.getUint32(20)]).toEqual([SIZE, SIZE]); // IHDR width and height
     expect((await raster(modelId, "?preview=gif")).status).toBe(400);
 
-    // ?display=8: the layer API's quantised form.
+    // ?display=8: the layer API's quantised form, on the display grid (each display cell the mean of
+    // its 3 × 3 cells, app/raster-display.ts).
     const d = await raster(modelId, "?display=8");
     expect(d.status).toBe(200);
-    expect(Number(d.headers.get("X-Lowstand-Width"))).toBe(SIZE);
+    expect([Number(d.headers.get("X-Lowstand-Width")), Number(d.headers.get("X-Lowstand-Step"))]).toEqual([DISPLAY_SIDE, DISPLAY_STEP]);
     expect(Number(d.headers.get("X-Lowstand-Nodata-Code"))).toBe(255);
     const codes = new Uint8Array(await d.arrayBuffer());
-    expect(codes.length).toBe(SIZE * SIZE);
+    expect(codes.length).toBe(DISPLAY_SIDE * DISPLAY_SIDE);
     const scale = Number(d.headers.get("X-Lowstand-Scale"));
     const offset = Number(d.headers.get("X-Lowstand-Offset"));
-    for (let i = 0; i < SIZE * SIZE; i++) {
-      const p = tif.grid.data[i];
+    const meanOfBlocks = reduceToDisplay(tif.grid.data, SIZE, SIZE, DISPLAY_STEP, "mean");
+    for (let i = 0; i < DISPLAY_SIDE * DISPLAY_SIDE; i++) {
+      const p = meanOfBlocks[i];
       if (p !== p) expect(codes[i]).toBe(255);
       else expect(Math.abs(codes[i] * scale + offset - p)).toBeLessThanOrEqual(scale / 2 + 1e-6);
     }
+
+    // Display resolution first: the first look the page showed while the full raster was predicted is
+    // the stored forest's prediction on the factors reduced to the display grid by their layers' rules,
+    // on the cells that were land (majority of the land classes) at the model's age.
+    expect(m.result.preview).toMatchObject({ width: DISPLAY_SIDE, height: DISPLAY_SIDE, step: DISPLAY_STEP });
+    const first = await readGeoTiff(new Uint8Array(await store().getBytes(m.result.preview.key)));
+    expect(first.grid.spec).toMatchObject({ width: DISPLAY_SIDE, height: DISPLAY_SIDE, originX: ORIGIN_X, originY: ORIGIN_Y, cellSizeX: CELL * DISPLAY_STEP });
+    const reducedFactors = await Promise.all(
+      FACTORS.map(async (f) => {
+        const layer = factorDef(f as FactorId)!.layer;
+        return reduceToDisplay(await readLayer(layer, factorDef(f as FactorId)!.perAge ? 12 : null), SIZE, SIZE, DISPLAY_STEP, reductionOf(layer));
+      }),
+    );
+    const expected = predictRaster(forest.compiled, reducedFactors);
+    const landFirst = reduceToDisplay(lc, SIZE, SIZE, DISPLAY_STEP, "majority");
+    let firstLand = 0;
+    for (let i = 0; i < DISPLAY_SIDE * DISPLAY_SIDE; i++) {
+      const v = first.grid.data[i];
+      if (landFirst[i] === 0 || landFirst[i] === 2) {
+        firstLand++;
+        expect(v).toBeCloseTo(expected[i], 6);
+      } else expect(v).toBeNaN();
+    }
+    expect(firstLand).toBeGreaterThan(0);
   });
 
   it("reuses the model for identical inputs, and the reviewer reads it", async () => {
@@ -277,6 +318,30 @@ describe("a trained model", () => {
       for (const x of siteXs) expect(text).not.toContain(String(x));
     }
     // and the viewer's session on the page is refused too (tested for every role in the authorization matrix)
+  });
+});
+
+describe("while a model trains", () => {
+  it("shows its display-resolution first look once there is one, and no key to it", async () => {
+    const [done] = await db().select().from(models).where(eq(models.status, "published")).limit(1);
+    const preview = (done.result as { preview: { key: string; width: number; height: number; step: number } }).preview;
+    const [running] = await db()
+      .insert(models)
+      .values({ projectId: world.projectId, reconstructionId, name: "Still training", params: done.params, inputsHash: "still-training", status: "running", result: { preview } })
+      .returning();
+    const png = await raster(running.id, "?preview=png");
+    expect(png.status).toBe(200);
+    expect(png.headers.get("X-Lowstand-Preview")).toBe("display");
+    const view = new DataView(await png.arrayBuffer());
+    expect([view.getUint32(16), view.getUint32(20)]).toEqual([DISPLAY_SIDE, DISPLAY_SIDE]); // IHDR: the display grid
+    const api = JSON.parse((await getModelApi(running.id)).text).model;
+    expect(api.result).toEqual({ preview: { width: DISPLAY_SIDE, height: DISPLAY_SIDE, step: DISPLAY_STEP } });
+    // the GeoTIFF download waits for the full raster
+    expect((await raster(running.id)).status).toBe(409);
+    // a running model without a first look yet has no picture
+    await db().update(models).set({ result: null }).where(eq(models.id, running.id));
+    expect((await raster(running.id, "?preview=png")).status).toBe(409);
+    await db().delete(models).where(eq(models.id, running.id));
   });
 });
 

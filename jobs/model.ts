@@ -36,16 +36,21 @@ import {
   exclusionWords,
   markModelEnded,
   MODEL_FOREST_FILE,
+  MODEL_PREVIEW_FILE,
   MODEL_RASTER_FILE,
   modelAttemptPrefix,
   modelEvidence,
   placeEvidence,
   publishModel,
+  publishModelPreview,
   tooFewMessage,
   type ModelParams,
+  type ModelPreview,
 } from "../app/models.server";
 import { defineJob, JobUserError, markRowEnded } from "./wrapper";
 import { layerId, loadReconstructionLayers, wantLayer, type WantedLayer } from "./reconstruction-layers";
+import { reduceToDisplay, reductionOf } from "../app/raster-display";
+import { displayGridFor } from "../app/display.server";
 import { predictRasterInPool, PredictionCancelled } from "./forest-predict-pool";
 import { TerrainCancelled } from "../app/terrain/grid";
 
@@ -220,12 +225,44 @@ export const modelJob = defineJob<ModelPayload>("model", async (ctx) => {
     }
     ctx.throwIfCancelled();
 
-    ctx.progress(0.75, "predicting the probability raster");
     const at = stackAges.find((s) => s.ageKa === modelAgeKa)!;
+    const threads = Math.max(1, Math.min(2, Number(process.env.LOWSTAND_ENGINE_THREADS ?? "2") || 1));
+
+    // Display resolution first (a grid larger than the display side): the factors reduced to the
+    // display grid by their layers' rules, predicted, and shown on the model's page while the
+    // full-resolution raster is predicted. (Within the display side, the full raster is the first look.)
+    const dgrid = displayGridFor(g);
+    let preview: ModelPreview | null = null;
+    if (dgrid.step > 1) {
+      ctx.progress(0.74, "predicting at display resolution");
+      const reduced = at.layers.map((l, k) => reduceToDisplay(l, g.width, g.height, dgrid.step, factors[k] === "shelter" ? "mean" : reductionOf(factorDef(factors[k])!.layer)));
+      const landClass = reduceToDisplay(loaded.get(layerId("land_class", modelAgeKa))!.values, g.width, g.height, dgrid.step, "majority");
+      let first: Float32Array;
+      try {
+        first = await predictRasterInPool(trained.compiled, reduced, { threads, shouldCancel: () => ctx.isCancelled() });
+      } catch (e) {
+        throw jobError(e);
+      }
+      const dn = dgrid.width * dgrid.height;
+      const firstNodata = new Uint8Array(dn);
+      for (let i = 0; i < dn; i++) {
+        if (!(landClass[i] === 0 || landClass[i] === 2)) first[i] = NaN;
+        if (first[i] !== first[i]) firstNodata[i] = 1;
+      }
+      const dspec: GridSpec = { ...spec, width: dgrid.width, height: dgrid.height, cellSizeX: dgrid.cellSizeX, cellSizeY: dgrid.cellSizeY };
+      const key = `${prefix}/${MODEL_PREVIEW_FILE}`;
+      await store().put(key, writeGeoTiff({ spec: dspec, data: first, nodata: firstNodata }, { deflate: nodeDeflate, layout: "tiles", citation: `Lowstand model ${m.id}: display-resolution preview at ${modelAgeKa} ka` }), "image/tiff");
+      written.push(key);
+      preview = { key, width: dgrid.width, height: dgrid.height, step: dgrid.step };
+      await publishModelPreview(m.id, ctx.runId, ctx.attempt, preview);
+      ctx.throwIfCancelled();
+    }
+
+    ctx.progress(0.75, "predicting the probability raster");
     let probability: Float32Array;
     try {
       probability = await predictRasterInPool(trained.compiled, at.layers, {
-        threads: Math.max(1, Math.min(2, Number(process.env.LOWSTAND_ENGINE_THREADS ?? "2") || 1)),
+        threads,
         onProgress: (f) => ctx.progress(0.75 + 0.15 * f, "predicting the probability raster"),
         shouldCancel: () => ctx.isCancelled(),
       });
@@ -293,6 +330,8 @@ export const modelJob = defineJob<ModelPayload>("model", async (ctx) => {
         { name: "forest", file: MODEL_FOREST_FILE, bytes: forestJson.byteLength, sha256: createHash("sha256").update(forestJson).digest("hex") },
       ],
       reconstruction: { id: rec.id, name: rec.name, inputsHash: rec.inputsHash, engineVersion: rec.engineVersion },
+      // the first look shown while the full raster was predicted (display grid; kept with the model)
+      preview,
       caution: CAUTION,
     };
 

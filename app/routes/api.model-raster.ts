@@ -4,7 +4,7 @@
 // Offset/Nodata-Code headers (value = code × scale + offset). ?preview=png — a picture of it (viridis,
 // 0–1). models.read only: a viewer gets 403.
 import { requireModelAccess } from "~/resource-access.server";
-import { modelRasterBytes, modelRasterFileName } from "~/models.server";
+import { modelPictureBytes, modelRasterBytes, modelRasterFileName } from "~/models.server";
 import { displayCopy, previewRgba } from "~/raster-display";
 import { encodePng } from "~/png.server";
 import { displayGridFor } from "~/display.server";
@@ -23,15 +23,18 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   if (display !== null && display !== "8") return apiError(400, "bad_display", "display must be 8 (bits).");
   if (preview !== null && preview !== "png") return apiError(400, "bad_preview", "preview must be png.");
   return apiAction(async () => {
+    if (preview === "png") {
+      // A picture for the model's page: viridis on the fixed 0–1 scale of a share of trees, the sea
+      // transparent — of the display-resolution preview while the model still runs.
+      const pic = await modelPictureBytes(modelId);
+      const grid = (await readGeoTiff(new Uint8Array(pic.bytes))).grid;
+      const p = previewRgba(grid.data, grid.spec.width, grid.spec.height, "NaN", { maxSide: 640, range: { min: 0, max: 1 } });
+      return new Response(new Uint8Array(encodePng(p.width, p.height, p.rgba)), { headers: { "Content-Type": "image/png", "Cache-Control": PRIVATE, "X-Lowstand-Preview": pic.preview ? "display" : "full" } });
+    }
     const { model, bytes } = await modelRasterBytes(modelId);
-    if (display === null && preview === null)
+    if (display === null)
       return new Response(new Uint8Array(bytes), { headers: { "Content-Type": "image/tiff", "Content-Disposition": `attachment; filename="${modelRasterFileName(project, model.id, model.params ? (model.params as { ageKa: number }).ageKa : 0)}"`, "Cache-Control": PRIVATE } });
     const grid = (await readGeoTiff(new Uint8Array(bytes))).grid;
-    if (preview === "png") {
-      // A picture for the model's page: viridis on the fixed 0–1 scale of a share of trees, the sea transparent.
-      const p = previewRgba(grid.data, grid.spec.width, grid.spec.height, "NaN", { maxSide: 640, range: { min: 0, max: 1 } });
-      return new Response(new Uint8Array(encodePng(p.width, p.height, p.rgba)), { headers: { "Content-Type": "image/png", "Cache-Control": PRIVATE } });
-    }
     const { step } = displayGridFor(grid.spec);
     const q = displayCopy(grid.data, grid.spec.width, grid.spec.height, step, "probability", 8);
     return new Response(new Uint8Array(q.data.buffer as ArrayBuffer, q.data.byteOffset, q.data.byteLength), {

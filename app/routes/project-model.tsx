@@ -16,12 +16,17 @@ import { scaleGradient } from "~/components/map/colour-scales";
 import type { Route } from "./+types/project-model";
 
 /** The probability raster as a picture (GET /api/models/:id/raster?preview=png), with its scale. */
-function ProbabilityPicture({ modelId, ageKa }: { modelId: number; ageKa: number }) {
+function ProbabilityPicture({ modelId, ageKa, first }: { modelId: number; ageKa: number; first?: { step: number } }) {
   const [state, setState] = useState<"loading" | "shown" | "failed">("loading");
   return (
-    <figure className="mt-3 max-w-xl" data-testid="model-picture" data-state={state}>
+    <figure className="mt-3 max-w-xl" data-testid={first ? "model-first-look" : "model-picture"} data-state={state}>
+      {first ? (
+        <p className="mb-1 text-xs text-sediment-700">
+          First look at display resolution (every {first.step} × {first.step} cells as one, the factors reduced as the map reduces them); the full-resolution raster follows.
+        </p>
+      ) : null}
       <img
-        src={`/api/models/${modelId}/raster?preview=png`}
+        src={`/api/models/${modelId}/raster?preview=png&of=${first ? "display" : "full"}`}
         alt={`Probability of presence at ${ageKa} ka, from dark purple (0) to yellow (1); the sea at that age left blank`}
         className="w-full rounded-sm border border-sand-300 bg-deep-900 [image-rendering:pixelated]"
         onLoad={() => setState("shown")}
@@ -98,7 +103,8 @@ export default function ProjectModel({ loaderData }: Route.ComponentProps) {
   const card = model.card as (CardJson & { refused?: undefined }) | (RefusalNumbers & { refused: boolean }) | null;
   const refusedNumbers = card && "refused" in card && card.refused ? (card as RefusalNumbers) : null;
   const fullCard = card && model.status === "published" && "method" in card ? (card as CardJson) : null;
-  const result = model.result as { classes?: { label: string; areaKm2: number; share: number }[]; probability?: { areaKm2: number; mean: number | null } } | null;
+  const result = model.result as { classes?: { label: string; areaKm2: number; share: number }[]; probability?: { areaKm2: number; mean: number | null }; preview?: { step: number } | null } | null;
+  const firstLook = result?.preview ?? null;
   return (
     <div className="max-w-5xl space-y-5" data-testid="model-page" data-status={model.status}>
       <p className="text-sm">
@@ -119,6 +125,7 @@ export default function ProjectModel({ loaderData }: Route.ComponentProps) {
           <div className="h-2 rounded-sm bg-deep-500" style={{ width: `${Math.round(model.progress * 100)}%` }} />
         </div>
       ) : null}
+      {running && firstLook ? <ProbabilityPicture key="first" modelId={model.id} ageKa={model.ageKa} first={firstLook} /> : null}
       {model.status === "failed" ? (
         refusedNumbers ? (
           <ModelRefusal message={model.error ?? ""} numbers={refusedNumbers} />
