@@ -120,6 +120,7 @@ export async function resolveScoringRequest(projectId: number, req: ScoringReque
   }
 
   const evidence = content.preservation.enabled ? await evidenceFingerprint(projectId) : [];
+  const displayStep = displayGridFor(manifest.grid).step;
   const fingerprint = {
     scoring: SCORING_VERSION,
     reconstruction: rec.inputsHash,
@@ -129,7 +130,7 @@ export async function resolveScoringRequest(projectId: number, req: ScoringReque
     evidence,
     // The job's display check is made on the display grid: a different reduction is a different
     // scoring. Left out at step 1, so scorings of grids within the display side keep their keys.
-    ...(displayGridFor(manifest.grid).step > 1 ? { displayStep: displayGridFor(manifest.grid).step } : {}),
+    ...(displayStep > 1 ? { displayStep } : {}),
   };
   const inputsHash = createHash("sha256").update(JSON.stringify(fingerprint)).digest("hex");
   return { reconstruction: rec, manifest, version: v.version, setName: v.setName, content, target, inputsHash };
