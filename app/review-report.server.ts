@@ -50,28 +50,33 @@ export type ReviewMap = (typeof REVIEW_MAPS)[number];
 type ReviewLike = { id: number; snapshot: Record<string, unknown> | ReviewSnapshot };
 
 /**
- * A raster of the review's frozen scoring, read from storage and checked against the SHA-256 the
- * snapshot froze: a file that no longer matches is refused (409), never drawn.
+ * One published file of a frozen scoring or model, read from storage and checked against the
+ * SHA-256 the snapshot froze: a file that is gone or no longer matches is refused (409), never drawn.
+ * `what` names the run in messages ("Scoring 12", "Model 3").
  */
+async function frozenRaster(what: string, row: { layerPrefix: string | null; result: unknown } | undefined, name: string, frozenSha256: string) {
+  const file = ((row?.result as { files?: { name: string; file: string }[] } | null)?.files ?? []).find((f) => f.name === name);
+  if (!row?.layerPrefix || !file) throw new UserError(409, "snapshot_broken", `${what}'s ${name} raster is no longer where the snapshot left it.`);
+  const bytes = await store().getBytes(`${row.layerPrefix}/${file.file}`);
+  const sha = createHash("sha256").update(bytes).digest("hex");
+  if (sha !== frozenSha256) throw new UserError(409, "snapshot_broken", `${what}'s ${name} raster no longer matches the snapshot (SHA-256 ${sha.slice(0, 12)}… against the frozen ${frozenSha256.slice(0, 12)}…): it is not drawn.`);
+  const { grid } = await readGeoTiff(bytes);
+  return { values: grid.data as Float32Array, width: grid.spec.width, height: grid.spec.height, sha256: sha };
+}
+
+/** A raster of the review's frozen scoring (see {@link frozenRaster}). */
 export async function frozenScoringRaster(review: ReviewLike, name: string) {
   const snap = review.snapshot as unknown as ReviewSnapshot;
   if (!snap.scoring) throw new UserError(404, "no_scoring", "This review looks at a trained model, not a scoring: it has no potential map of a weight set.");
   const frozen = snap.scoring.files.find((f) => f.name === name);
   if (!frozen) throw new UserError(404, "no_such_map", `The reviewed scoring has no ${name} raster (it has ${snap.scoring.files.map((f) => f.name).join(", ")}).`);
   const [s] = await db().select({ layerPrefix: scorings.layerPrefix, result: scorings.result }).from(scorings).where(eq(scorings.id, snap.scoring.id));
-  const files = ((s?.result as { files?: { name: string; file: string }[] } | null)?.files ?? []) as { name: string; file: string }[];
-  const file = files.find((f) => f.name === name);
-  if (!s?.layerPrefix || !file) throw new UserError(409, "snapshot_broken", `Scoring ${snap.scoring.id}'s ${name} raster is no longer where the snapshot left it.`);
-  const bytes = await store().getBytes(`${s.layerPrefix}/${file.file}`);
-  const sha = createHash("sha256").update(bytes).digest("hex");
-  if (sha !== frozen.sha256) throw new UserError(409, "snapshot_broken", `Scoring ${snap.scoring.id}'s ${name} raster no longer matches the snapshot (SHA-256 ${sha.slice(0, 12)}… against the frozen ${frozen.sha256.slice(0, 12)}…): it is not drawn.`);
-  const { grid } = await readGeoTiff(bytes);
-  return { values: grid.data as Float32Array, width: grid.spec.width, height: grid.spec.height, sha256: sha };
+  return frozenRaster(`Scoring ${snap.scoring.id}`, s, name, frozen.sha256);
 }
 
 /**
- * The probability raster of a review's frozen model, checked against the SHA-256 the snapshot froze
- * as a scoring's rasters are. The caller checks the reader may see model rasters (design §9).
+ * The probability raster of a review's frozen model (see {@link frozenRaster}). The caller checks the
+ * reader may see model rasters (design §9).
  */
 export async function frozenModelRaster(review: ReviewLike) {
   const snap = review.snapshot as unknown as ReviewSnapshot;
@@ -80,13 +85,7 @@ export async function frozenModelRaster(review: ReviewLike) {
   const frozen = subject.files.find((f) => f.name === "probability");
   if (!frozen) throw new UserError(404, "no_such_map", `The reviewed model has no probability raster (it has ${subject.files.map((f) => f.name).join(", ")}).`);
   const [m] = await db().select({ layerPrefix: models.layerPrefix, result: models.result }).from(models).where(eq(models.id, subject.id));
-  const file = ((m?.result as { files?: { name: string; file: string }[] } | null)?.files ?? []).find((f) => f.name === "probability");
-  if (!m?.layerPrefix || !file) throw new UserError(409, "snapshot_broken", `Model ${subject.id}'s probability raster is no longer where the snapshot left it.`);
-  const bytes = await store().getBytes(`${m.layerPrefix}/${file.file}`);
-  const sha = createHash("sha256").update(bytes).digest("hex");
-  if (sha !== frozen.sha256) throw new UserError(409, "snapshot_broken", `Model ${subject.id}'s probability raster no longer matches the snapshot (SHA-256 ${sha.slice(0, 12)}… against the frozen ${frozen.sha256.slice(0, 12)}…): it is not drawn.`);
-  const { grid } = await readGeoTiff(bytes);
-  return { values: grid.data as Float32Array, width: grid.spec.width, height: grid.spec.height, sha256: sha };
+  return frozenRaster(`Model ${subject.id}`, m, "probability", frozen.sha256);
 }
 
 /** A PNG of the frozen model's probability (viridis over 0–1, the sea transparent), as its page draws it. */
