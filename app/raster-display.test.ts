@@ -52,6 +52,7 @@ describe("the display grid", () => {
     // codes that are not small whole numbers take the sorting path, by the same rule
     expect(Array.from(reduceToDisplay(Float32Array.from([0.5, 2, 2, 0.5]), 2, 2, 2, "majority"))).toEqual([0.5]);
     expect(Array.from(reduceToDisplay(Float32Array.from([300, 1, 300, 2]), 2, 2, 2, "majority"))).toEqual([300]);
+    expect(Array.from(reduceToDisplay(Float32Array.from([1, 1, 300, 2]), 2, 2, 2, "majority"))).toEqual([1]); // counted, then sorted
     // aspect: 350° and 10° point north (0°), not south (the plain mean, 180°)
     const a = reduceToDisplay(Float32Array.from([350, 10, 80, 100]), 2, 2, 2, "aspect");
     // unit vectors summed: x = cos 350 + cos 10 + cos 80 + cos 100 = 2 cos 10; y = sin 350 + sin 10 +

@@ -211,12 +211,16 @@ export function reduceToDisplay(values: ArrayLike<number>, width: number, height
           else if (reduction === "aspect") {
             sum += Math.cos(v * DEG);
             sumY += Math.sin(v * DEG);
-          } else {
-            bag.push(v);
+          } else if (!notSmall && v >= 0 && v < 256 && v === Math.floor(v)) {
             // class codes are small whole numbers: count them instead of sorting
-            if (v >= 0 && v < 256 && v === Math.floor(v)) {
-              if (counts[v]++ === 0) touched.push(v);
-            } else notSmall = true;
+            if (counts[v]++ === 0) touched.push(v);
+          } else {
+            if (!notSmall) {
+              // the first value that is not a small code: the block is sorted instead, from what was counted
+              notSmall = true;
+              for (const code of touched) for (let k = 0; k < counts[code]; k++) bag.push(code);
+            }
+            bag.push(v);
           }
         }
       }

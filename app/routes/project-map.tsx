@@ -8,7 +8,7 @@ import { useQuery } from "@tanstack/react-query";
 import { useCallback, useMemo, useState } from "react";
 import { Link } from "react-router";
 import { adoptedVersion } from "~/weight-sets.server";
-import { rasterCanvas } from "~/components/map/raster";
+import { potentialOverlay, potentialText } from "~/components/scoring/potential-view";
 import { useLiveScoring } from "~/components/scoring/useLiveScoring";
 import { evidenceFromOverlays } from "~/components/scoring/evidence";
 import type { WeightSetContent } from "~/scoring/weight-set";
@@ -82,17 +82,12 @@ function MapWithPotential({ data, reconstruction: r, adopted, projectId }: { dat
   const evidence = useMemo(() => evidenceFromOverlays(data.overlays), [data.overlays]);
   const live = useLiveScoring({ reconstruction: r, content: adopted && on ? adopted.content : null, target, evidence, compare: null });
   const res = live.result;
-  const overlay = useMemo(() => {
-    if (!adopted || !on || !res || typeof document === "undefined") return null;
-    return { id: "potential", canvas: rasterCanvas(res.rgba, res.width, res.height), opacity: 0.8, tag: res.checksum };
-    // the result belongs to the age it was asked for; a stale one is replaced within a frame or two
-  }, [adopted, on, res]);
+  // (a result for the age before stays drawn until this age's arrives, a frame or two later)
+  const overlay = useMemo(() => (adopted && on ? potentialOverlay(res, 0.8, res?.checksum ?? "") : null), [adopted, on, res]);
   const extraReadout = useCallback(
     (col: number, row: number) => {
-      if (!adopted || !on || !res || col < 0 || row < 0 || col >= res.width || row >= res.height) return [];
-      const i = row * res.width + col;
-      const v = res.potential[i];
-      return [{ label: `Potential (${ageKa} ka)`, text: v === v ? v.toFixed(3) : res.unassessed[i] === 1 ? "unassessed" : "—" }];
+      const text = adopted && on ? potentialText(res, col, row) : null;
+      return text === null ? [] : [{ label: `Potential (${ageKa} ka)`, text }];
     },
     [adopted, on, res, ageKa],
   );

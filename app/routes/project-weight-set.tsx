@@ -14,7 +14,7 @@ import { mapPayload } from "~/map.server";
 import { formatUtc } from "~/format";
 import { MapWorkspace } from "~/components/map/MapWorkspace";
 import { rasterQuery } from "~/components/map/queries";
-import { rasterCanvas } from "~/components/map/raster";
+import { potentialOverlay, potentialText } from "~/components/scoring/potential-view";
 import { scaleGradient, divergingGradient } from "~/components/map/colour-scales";
 import type { MapData } from "~/components/map/types";
 import { Cautions } from "~/components/Cautions";
@@ -101,19 +101,11 @@ function Workbench({ data, reconstruction: r, mayEdit }: { data: LoaderData; rec
   const compareArg = useMemo(() => (compare ? { content: compare.content, topN: 2000 } : null), [compare]);
   const live = useLiveScoring({ reconstruction: r, content, target, evidence, compare: compareArg });
 
-  const overlay = useMemo(() => {
-    const res = live.result;
-    if (!res || typeof document === "undefined") return null;
-    return { id: "potential", canvas: rasterCanvas(res.rgba, res.width, res.height), opacity: 0.9, tag: `${compare ? "diff:" : ""}${res.checksum}` };
-  }, [live.result]);
+  const overlay = useMemo(() => potentialOverlay(live.result, 0.9, `${compare ? "diff:" : ""}${live.result?.checksum ?? ""}`), [live.result]);
   const extraReadout = useCallback(
     (col: number, row: number) => {
-      const res = live.result;
-      if (!res || col < 0 || row < 0 || col >= res.width || row >= res.height) return [];
-      const i = row * res.width + col;
-      const v = res.potential[i];
-      const text = v === v ? v.toFixed(3) : res.unassessed[i] === 1 ? "unassessed" : "—";
-      return [{ label: compare ? "Potential (this set)" : "Potential", text }];
+      const text = potentialText(live.result, col, row);
+      return text === null ? [] : [{ label: compare ? "Potential (this set)" : "Potential", text }];
     },
     [live.result, compare],
   );
